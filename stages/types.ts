@@ -42,6 +42,16 @@ export interface Stage<Cfg, State> {
   fit(input: FitInput<Cfg>): State;
   /** Pure and deterministic. Returns new columns of length `view.rows.length`. */
   apply(state: State, view: FrameView, inputs: readonly string[]): Column[];
+  /**
+   * Optional: what the run folder should show about a fitted state (the final context's fit).
+   * `tables` become CSV files named `<table>.csv`; `metrics` go under the stage's kind in metrics.json.
+   */
+  describe?(state: State): StageReport;
+}
+
+export interface StageReport {
+  readonly tables?: Readonly<Record<string, { header: readonly string[]; rows: readonly (readonly (string | number))[] }>>;
+  readonly metrics?: Json;
 }
 
 /** Learners: fit on numeric feature columns, emit one probability per row. */
