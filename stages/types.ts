@@ -50,7 +50,7 @@ export interface Stage<Cfg, State> {
 }
 
 export interface StageReport {
-  readonly tables?: Readonly<Record<string, { header: readonly string[]; rows: readonly (readonly (string | number))[] }>>;
+  readonly tables?: Readonly<Record<string, { header: readonly string[]; rows: readonly (readonly (string | number)[])[] }>>;
   readonly metrics?: Json;
 }
 
