@@ -1,0 +1,264 @@
+/**
+ * Depth-wise tree growth on binned columns.
+ *
+ * Training structure: the rows of every node of the current level are a contiguous range of one
+ * Uint32Array (`order`), rearranged in place when a node splits; each live node owns one
+ * histogram. After a split, the smaller child's histogram is accumulated from its rows and the
+ * larger child's is the parent's minus the smaller's, computed in the parent's buffer.
+ *
+ * Reuse: Gini trees pass grad = weight·y and hess = weight; boosted trees pass gradients and
+ * hessians; forests pass a bootstrap as repeated rows in `rows` and ask for a random column
+ * subset per split (`featuresPerSplit` with an `rng`). Histograms always cover every candidate
+ * column so that subtraction stays valid whatever subset a sibling draws.
+ */
+import type { Rng } from '../../types.js';
+import type { BinCodes } from './bin.js';
+import { TreeParamError } from './errors.js';
+import { HistogramPool, accumulate, histogramLayout, subtractInPlace } from './histogram.js';
+import type { FlatTree } from './predict.js';
+import { SplitResult, findBestSplit, type SplitParams } from './split.js';
+
+export interface GrowData {
+  /** Bin codes per column over a local row index 0..n-1. */
+  readonly codes: readonly BinCodes[];
+  /** Value bins per column; code nBins[c] is column c's missing code. */
+  readonly nBins: Int32Array;
+  /** Real threshold of each bin boundary per column (length nBins[c] − 1), see bin.binThresholds. */
+  readonly thresholds: readonly (readonly number[])[];
+  /** Per local row. */
+  readonly grad: Float64Array;
+  readonly hess: Float64Array;
+  /** Local rows to grow on; a row may repeat (bootstrap). */
+  readonly rows: Uint32Array;
+}
+
+export type LeafValue = 'ratio' | 'newton';
+
+export interface GrowOptions {
+  /** Number of split levels; 0 gives a single leaf. */
+  readonly maxDepth: number;
+  /** A node with fewer rows is not split (scikit-learn's min_samples_split). */
+  readonly minSplit: number;
+  readonly split: SplitParams;
+  /** `ratio`: grad/hess (event rate for Gini trees); `newton`: −grad/(hess+λ). */
+  readonly leafValue: LeafValue;
+  /** Columns a split may use (default: all), ascending. */
+  readonly candidates?: Int32Array;
+  /** Draw this many candidate columns per split (forests); needs `rng`. */
+  readonly featuresPerSplit?: number;
+  readonly rng?: Rng;
+}
+
+const MAX_DEPTH_LIMIT = 64;
+
+export function validateGrowOptions(o: GrowOptions, nCols: number): void {
+  if (!Number.isInteger(o.maxDepth) || o.maxDepth < 0 || o.maxDepth > MAX_DEPTH_LIMIT) {
+    throw new TreeParamError(`maxDepth must be an integer in [0, ${MAX_DEPTH_LIMIT}]`, 'maxDepth', o.maxDepth);
+  }
+  if (!Number.isInteger(o.minSplit) || o.minSplit < 2) throw new TreeParamError('minSplit must be an integer >= 2', 'minSplit', o.minSplit);
+  const s = o.split;
+  if (!Number.isInteger(s.minLeafCount) || s.minLeafCount < 1) {
+    throw new TreeParamError('minLeafCount must be an integer >= 1', 'minLeafCount', s.minLeafCount);
+  }
+  if (!(s.minLeafHess >= 0)) throw new TreeParamError('minLeafHess must be >= 0', 'minLeafHess', s.minLeafHess);
+  if (!(s.minGain >= 0)) throw new TreeParamError('minGain must be >= 0', 'minGain', s.minGain);
+  if (!(s.lambda >= 0)) throw new TreeParamError('lambda must be >= 0', 'lambda', s.lambda);
+  if (o.candidates) {
+    for (let k = 0; k < o.candidates.length; k++) {
+      const c = o.candidates[k];
+      if (c < 0 || c >= nCols || (k > 0 && c <= o.candidates[k - 1])) {
+        throw new TreeParamError('candidates must be ascending column indices', 'candidates', Array.from(o.candidates));
+      }
+    }
+  }
+  if (o.featuresPerSplit !== undefined) {
+    if (!Number.isInteger(o.featuresPerSplit) || o.featuresPerSplit < 1) {
+      throw new TreeParamError('featuresPerSplit must be an integer >= 1', 'featuresPerSplit', o.featuresPerSplit);
+    }
+    if (!o.rng) throw new TreeParamError('featuresPerSplit needs an rng', 'rng', null);
+  }
+}
+
+interface LiveNode {
+  id: number;
+  start: number;
+  end: number;
+  hist: Float64Array;
+}
+
+/** Grow one tree. Validates its parameters once, then runs allocation-free inner loops. */
+export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
+  const nCols = data.codes.length;
+  validateGrowOptions(opts, nCols);
+  if (data.nBins.length !== nCols || data.thresholds.length !== nCols) {
+    throw new TreeParamError('codes, nBins and thresholds must have one entry per column', 'nCols', nCols);
+  }
+  const layout = histogramLayout(data.nBins);
+  const pool = new HistogramPool(layout.size);
+  const cand = opts.candidates ?? Int32Array.from({ length: nCols }, (_, c) => c);
+  const nCand = cand.length;
+  const perSplit = Math.min(opts.featuresPerSplit ?? nCand, nCand);
+  const drawn = new Int32Array(cand);
+  const lambda = opts.split.lambda;
+
+  const order = Uint32Array.from(data.rows);
+  const { grad, hess } = data;
+  const nodes = new NodeBuilder();
+  const best = new SplitResult();
+
+  let g0 = 0;
+  let h0 = 0;
+  for (let i = 0; i < order.length; i++) {
+    g0 += grad[order[i]];
+    h0 += hess[order[i]];
+  }
+  const root = pool.take();
+  accumulate(root, layout, data.codes, cand, nCand, order, 0, order.length, grad, hess);
+  let level: LiveNode[] = [{ id: nodes.add(0, g0, h0, order.length, valueOf(opts.leafValue, g0, h0, lambda)), start: 0, end: order.length, hist: root }];
+
+  for (let depth = 0; level.length > 0; depth++) {
+    const next: LiveNode[] = [];
+    for (const node of level) {
+      const n = node.end - node.start;
+      if (depth >= opts.maxDepth || n < opts.minSplit) {
+        pool.give(node.hist);
+        continue;
+      }
+      const cols = perSplit < nCand ? sampleColumns(drawn, perSplit, opts.rng as Rng) : cand;
+      const nUse = perSplit < nCand ? perSplit : nCand;
+      findBestSplit(node.hist, layout, cols, nUse, nodes.grad[node.id], nodes.hess[node.id], n, opts.split, best);
+      if (best.feature < 0) {
+        pool.give(node.hist);
+        continue;
+      }
+      const f = best.feature;
+      const mid = partition(order, node.start, node.end, data.codes[f], best.bin, data.nBins[f], best.missingLeft);
+      const lg = best.leftGrad;
+      const lh = best.leftHess;
+      const rg = nodes.grad[node.id] - lg;
+      const rh = nodes.hess[node.id] - lh;
+      const leftId = nodes.add(depth + 1, lg, lh, mid - node.start, valueOf(opts.leafValue, lg, lh, lambda));
+      const rightId = nodes.add(depth + 1, rg, rh, node.end - mid, valueOf(opts.leafValue, rg, rh, lambda));
+      const edges = data.thresholds[f];
+      nodes.setSplit(node.id, f, best.bin, best.bin < edges.length ? edges[best.bin] : Infinity, data.nBins[f], best.missingLeft, leftId, rightId);
+      if (depth + 1 >= opts.maxDepth) {
+        pool.give(node.hist);
+        continue;
+      }
+      const small = pool.take();
+      const leftSmaller = mid - node.start <= node.end - mid;
+      if (leftSmaller) accumulate(small, layout, data.codes, cand, nCand, order, node.start, mid, grad, hess);
+      else accumulate(small, layout, data.codes, cand, nCand, order, mid, node.end, grad, hess);
+      subtractInPlace(node.hist, small, layout, cand, nCand);
+      next.push({ id: leftId, start: node.start, end: mid, hist: leftSmaller ? small : node.hist });
+      next.push({ id: rightId, start: mid, end: node.end, hist: leftSmaller ? node.hist : small });
+    }
+    level = next;
+  }
+  return nodes.finish();
+}
+
+function valueOf(kind: LeafValue, g: number, h: number, lambda: number): number {
+  if (kind === 'ratio') return h > 0 ? g / h : 0;
+  return -g / (h + lambda);
+}
+
+/** Partial Fisher–Yates: the first k entries of `cols` become a uniform sample, then sorted so ties resolve by column index. */
+function sampleColumns(cols: Int32Array, k: number, rng: Rng): Int32Array {
+  const n = cols.length;
+  for (let i = 0; i < k; i++) {
+    const j = i + rng.int(n - i);
+    const t = cols[i];
+    cols[i] = cols[j];
+    cols[j] = t;
+  }
+  cols.subarray(0, k).sort();
+  return cols;
+}
+
+/** Rearranges order[start..end) so left-going rows come first; returns the first right index. */
+function partition(
+  order: Uint32Array,
+  start: number,
+  end: number,
+  code: BinCodes,
+  bin: number,
+  missingCode: number,
+  missingLeft: boolean,
+): number {
+  let i = start;
+  let j = end - 1;
+  while (i <= j) {
+    const c = code[order[i]];
+    const goLeft = c === missingCode ? missingLeft : c <= bin;
+    if (goLeft) i++;
+    else {
+      const t = order[i];
+      order[i] = order[j];
+      order[j] = t;
+      j--;
+    }
+  }
+  return i;
+}
+
+/** Growable node storage, converted to a FlatTree at the end. */
+class NodeBuilder {
+  readonly grad: number[] = [];
+  readonly hess: number[] = [];
+  private readonly count: number[] = [];
+  private readonly value: number[] = [];
+  private readonly depth: number[] = [];
+  private readonly feature: number[] = [];
+  private readonly thresholdBin: number[] = [];
+  private readonly threshold: number[] = [];
+  private readonly missingBin: number[] = [];
+  private readonly missingLeft: number[] = [];
+  private readonly left: number[] = [];
+  private readonly right: number[] = [];
+
+  add(depth: number, g: number, h: number, n: number, value: number): number {
+    const id = this.grad.length;
+    this.grad.push(g);
+    this.hess.push(h);
+    this.count.push(n);
+    this.value.push(value);
+    this.depth.push(depth);
+    this.feature.push(-1);
+    this.thresholdBin.push(-1);
+    this.threshold.push(0);
+    this.missingBin.push(-1);
+    this.missingLeft.push(0);
+    this.left.push(-1);
+    this.right.push(-1);
+    return id;
+  }
+
+  setSplit(id: number, f: number, bin: number, threshold: number, missingBin: number, missingLeft: boolean, l: number, r: number): void {
+    this.feature[id] = f;
+    this.thresholdBin[id] = bin;
+    this.threshold[id] = threshold;
+    this.missingBin[id] = missingBin;
+    this.missingLeft[id] = missingLeft ? 1 : 0;
+    this.left[id] = l;
+    this.right[id] = r;
+  }
+
+  finish(): FlatTree {
+    return {
+      nNodes: this.grad.length,
+      feature: Int32Array.from(this.feature),
+      threshold: Float64Array.from(this.threshold),
+      thresholdBin: Int32Array.from(this.thresholdBin),
+      missingBin: Int32Array.from(this.missingBin),
+      missingLeft: Uint8Array.from(this.missingLeft),
+      left: Int32Array.from(this.left),
+      right: Int32Array.from(this.right),
+      value: Float64Array.from(this.value),
+      count: Float64Array.from(this.count),
+      gradSum: Float64Array.from(this.grad),
+      hessSum: Float64Array.from(this.hess),
+      depth: Int32Array.from(this.depth),
+    };
+  }
+}

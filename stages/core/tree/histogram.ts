@@ -1,0 +1,99 @@
+/**
+ * Per-node histograms: for every column and every bin (the missing code included, as the
+ * column's last slot) the sums of gradient, hessian and row count. For Gini trees the caller
+ * passes gradient = weighted event indicator and hessian = sample weight, so the same sums give
+ * weighted events and weighted rows; boosting passes true gradients and hessians.
+ *
+ * One histogram is a flat Float64Array; column c's bin b lives at 3 * (offset[c] + b).
+ */
+import type { BinCodes } from './bin.js';
+
+/** Values stored per bin: gradient sum, hessian sum, row count. */
+export const STATS = 3;
+
+export interface HistogramLayout {
+  /** First slot of each column. */
+  readonly offset: Int32Array;
+  /** Value bins per column; the missing slot of column c is offset[c] + nBins[c]. */
+  readonly nBins: Int32Array;
+  /** Length of one histogram array. */
+  readonly size: number;
+}
+
+export function histogramLayout(nBins: Int32Array): HistogramLayout {
+  const offset = new Int32Array(nBins.length);
+  let slots = 0;
+  for (let c = 0; c < nBins.length; c++) {
+    offset[c] = slots;
+    slots += nBins[c] + 1;
+  }
+  return { offset, nBins, size: slots * STATS };
+}
+
+/**
+ * Direct accumulation over the rows order[start..end) for the columns cols[0..nCols).
+ * Zeroes those columns' slots first; other columns are left untouched.
+ */
+export function accumulate(
+  hist: Float64Array,
+  layout: HistogramLayout,
+  codes: readonly BinCodes[],
+  cols: Int32Array,
+  nCols: number,
+  order: Uint32Array,
+  start: number,
+  end: number,
+  grad: Float64Array,
+  hess: Float64Array,
+): void {
+  for (let k = 0; k < nCols; k++) {
+    const c = cols[k];
+    const base = layout.offset[c] * STATS;
+    hist.fill(0, base, base + (layout.nBins[c] + 1) * STATS);
+    const code = codes[c];
+    for (let i = start; i < end; i++) {
+      const r = order[i];
+      const at = base + code[r] * STATS;
+      hist[at] += grad[r];
+      hist[at + 1] += hess[r];
+      hist[at + 2] += 1;
+    }
+  }
+}
+
+/**
+ * Histogram subtraction: the larger child of a split is its parent minus the smaller child, so
+ * only the smaller child is ever accumulated from rows. `parent` is overwritten in place (it
+ * becomes the larger child) because the parent's own histogram is not needed after its split.
+ */
+export function subtractInPlace(
+  parent: Float64Array,
+  child: Float64Array,
+  layout: HistogramLayout,
+  cols: Int32Array,
+  nCols: number,
+): void {
+  for (let k = 0; k < nCols; k++) {
+    const c = cols[k];
+    const base = layout.offset[c] * STATS;
+    const end = base + (layout.nBins[c] + 1) * STATS;
+    for (let i = base; i < end; i++) parent[i] -= child[i];
+  }
+}
+
+/**
+ * A free list of histogram buffers, so that growing a tree allocates only as many histograms
+ * as are alive at once (one tree level) rather than one per node.
+ */
+export class HistogramPool {
+  private readonly free: Float64Array[] = [];
+  constructor(private readonly size: number) {}
+
+  take(): Float64Array {
+    return this.free.pop() ?? new Float64Array(this.size);
+  }
+
+  give(h: Float64Array): void {
+    this.free.push(h);
+  }
+}
