@@ -1,0 +1,121 @@
+/**
+ * Stratified bootstrap percentile intervals for any metric: events and non-events are resampled
+ * separately with replacement, each keeping its size, so every replicate has the original base
+ * rate (as pROC's boot.stratified = TRUE). The interval is the (1-level)/2 and (1+level)/2
+ * quantiles of the replicate values (linear interpolation, R type 7 / numpy default).
+ */
+import type { Rng } from '../../stages/types.js';
+import { MetricInputError, checkFraction, checkScores } from './input.js';
+import { quantileSorted } from './quantile.js';
+
+/** A metric of (target, scores); null where it is undefined. */
+export type MetricFn = (y: Uint8Array, p: Float64Array) => number | null;
+
+export interface BootstrapOptions {
+  /** Default 1,000. */
+  readonly replicates?: number;
+  /** Default 0.95. */
+  readonly level?: number;
+}
+
+export interface BootstrapCi {
+  /** The metric on the original rows (for the paired variant: the difference). */
+  readonly estimate: number | null;
+  readonly low: number;
+  readonly high: number;
+  readonly level: number;
+  readonly replicates: number;
+  /** Replicates where the metric was defined; the interval uses only these. */
+  readonly valid: number;
+}
+
+export const DEFAULT_REPLICATES = 1000;
+
+/**
+ * Replicate draws: for each replicate, nEvents draws rng.int(nEvents) then nNonEvents draws
+ * rng.int(nNonEvents). The same Rng state therefore gives the same interval.
+ * null when a class is empty or no replicate gives a defined value.
+ */
+export function stratifiedBootstrapCi(
+  y: Uint8Array,
+  p: Float64Array,
+  metric: MetricFn,
+  rng: Rng,
+  options: BootstrapOptions = {},
+): BootstrapCi | null {
+  return run('stratifiedBootstrapCi', y, [p], (yb, pb) => metric(yb, pb[0]), metric(y, p), rng, options);
+}
+
+/**
+ * CI of metric(y, p1) - metric(y, p2) with both evaluated on the same resampled rows in each
+ * replicate, so the correlation between the two scores is kept.
+ */
+export function pairedBootstrapCi(
+  y: Uint8Array,
+  p1: Float64Array,
+  p2: Float64Array,
+  metric: MetricFn,
+  rng: Rng,
+  options: BootstrapOptions = {},
+): BootstrapCi | null {
+  checkScores('pairedBootstrapCi', y, p2);
+  const diff = (yb: Uint8Array, pb: readonly Float64Array[]): number | null => {
+    const a = metric(yb, pb[0]);
+    const b = metric(yb, pb[1]);
+    return a === null || b === null ? null : a - b;
+  };
+  return run('pairedBootstrapCi', y, [p1, p2], diff, diff(y, [p1, p2]), rng, options);
+}
+
+function run(
+  name: string,
+  y: Uint8Array,
+  scores: readonly Float64Array[],
+  stat: (yb: Uint8Array, pb: readonly Float64Array[]) => number | null,
+  estimate: number | null,
+  rng: Rng,
+  options: BootstrapOptions,
+): BootstrapCi | null {
+  const replicates = options.replicates ?? DEFAULT_REPLICATES;
+  const level = options.level ?? 0.95;
+  if (!Number.isInteger(replicates) || replicates < 1) throw new MetricInputError('replicates must be a positive integer', name, { replicates });
+  checkFraction(name, 'level', level);
+  const nPos = checkScores(name, y, scores[0]);
+  const n = y.length;
+  const nNeg = n - nPos;
+  if (nPos === 0 || nNeg === 0) return null;
+  const posRows = new Uint32Array(nPos);
+  const negRows = new Uint32Array(nNeg);
+  for (let i = 0, a = 0, b = 0; i < n; i++) {
+    if (y[i] === 1) posRows[a++] = i;
+    else negRows[b++] = i;
+  }
+  // Resampled rows keep events first, so the resampled target never changes and is built once.
+  const yb = new Uint8Array(n);
+  yb.fill(1, 0, nPos);
+  const pb = scores.map(() => new Float64Array(n));
+  const rows = new Uint32Array(n);
+  const values = new Float64Array(replicates);
+  let valid = 0;
+  for (let r = 0; r < replicates; r++) {
+    for (let k = 0; k < nPos; k++) rows[k] = posRows[rng.int(nPos)];
+    for (let k = 0; k < nNeg; k++) rows[nPos + k] = negRows[rng.int(nNeg)];
+    for (let s = 0; s < scores.length; s++) {
+      const src = scores[s];
+      const dst = pb[s];
+      for (let k = 0; k < n; k++) dst[k] = src[rows[k]];
+    }
+    const v = stat(yb, pb);
+    if (v !== null && Number.isFinite(v)) values[valid++] = v;
+  }
+  if (valid === 0) return null;
+  const sorted = values.subarray(0, valid).sort();
+  return {
+    estimate,
+    low: quantileSorted(sorted, (1 - level) / 2),
+    high: quantileSorted(sorted, (1 + level) / 2),
+    level,
+    replicates,
+    valid,
+  };
+}
