@@ -1,0 +1,94 @@
+/**
+ * Option schemas per stage kind and per learner kind. Adding a kind to the config language is one
+ * entry here; the config schema, validation, JSON Schema and reference docs all pick it up.
+ */
+import { arrayOf, integer, number, object, oneOfValues, optional, string, type ObjectSchema } from './schema-dsl.js';
+
+const columnList = (what: string) => arrayOf(string('A column name from the data file.', { minLength: 1 }), what);
+
+const smoothing = number('Prior strength in pseudo-rows: how far a sparse group\'s rate is pulled toward the overall rate.', { min: 0 });
+
+export const stageKinds: ReadonlyMap<string, ObjectSchema> = new Map([
+  [
+    'rate-encode',
+    object(
+      'Replace each categorical column with its smoothed event rate (cross-fitted).',
+      {
+        smoothing: optional(smoothing, 20),
+        columns: optional(columnList('Categorical columns to encode; default: every categorical feature.')),
+      },
+      { nullable: true },
+    ),
+  ],
+  [
+    'tree-bins',
+    object(
+      'Bin each numeric column with a shallow tree fitted to the target and encode the bins as smoothed event rates (cross-fitted).',
+      {
+        max_depth: optional(integer('Maximum depth of each per-column tree.', { min: 1, max: 8 }), 3),
+        min_leaf: optional(
+          number('Smallest leaf: ≥ 1 is a row count, < 1 a fraction of the fit rows.', { min: 0, exclusiveMin: true }),
+          0.05,
+        ),
+        smoothing: optional(smoothing, 20),
+        columns: optional(columnList('Numeric columns to bin; default: every numeric feature.')),
+        monotone: optional(
+          oneOfValues('Constrain bin rates to rise (up) or fall (down) with the column, pick the direction from the data (auto), or not at all (none).', [
+            'auto',
+            'up',
+            'down',
+            'none',
+          ]),
+          'none',
+        ),
+      },
+      { nullable: true },
+    ),
+  ],
+  ['leaf-z', object('Standardise encoded rates into z-scores against the overall rate.', {}, { nullable: true })],
+  [
+    'summaries',
+    object(
+      'Row-level summaries across encoded columns (count of high-risk signals, mean, max).',
+      { high_z: optional(number('z-score above which a column counts as a high-risk signal.', { min: 0, exclusiveMin: true }), 1.0) },
+      { nullable: true },
+    ),
+  ],
+  [
+    'dates',
+    object(
+      'Derive features from date columns: parts, fiscal periods, ages and gaps, holiday proximity.',
+      {
+        columns: optional(columnList('Date columns to expand; default: every date column.')),
+        fiscal_start_month: optional(integer('Month (1–12) in which the fiscal year starts.', { min: 1, max: 12 }), 1),
+        as_of: optional(
+          string('Reference point for "days since" features: a date column (such as the application date) or a fixed date written YYYY-MM-DD.', {
+            minLength: 1,
+          }),
+        ),
+        pairs: optional(
+          arrayOf(
+            arrayOf(string('A date column name.', { minLength: 1 }), 'Two date columns [later, earlier]; the feature is the gap in days.', {
+              minItems: 2,
+              maxItems: 2,
+            }),
+            'Pairs of date columns whose gap in days becomes a feature.',
+          ),
+        ),
+        holiday_window_days: optional(integer('Days either side of a public holiday that count as "near a holiday".', { min: 0 }), 7),
+      },
+      { nullable: true },
+    ),
+  ],
+]);
+
+export const learnerKinds: ReadonlyMap<string, ObjectSchema> = new Map([
+  [
+    'logistic',
+    object('L2-penalised logistic regression fitted by Newton\'s method.', {
+      l2: optional(number('L2 penalty strength on the standardised coefficients (intercept not penalised).', { min: 0 }), 1.0),
+      max_iter: optional(integer('Maximum Newton iterations.', { min: 1, max: 1000 }), 100),
+      tol: optional(number('Convergence tolerance on the change in log-loss between iterations.', { min: 0, exclusiveMin: true }), 1e-10),
+    }),
+  ],
+]);
