@@ -12,9 +12,11 @@ import {
   type ArraySchema,
   type KeyedSchema,
   type MapSchema,
+  type NumberSchema,
   type ObjectSchema,
   type OneOfSchema,
   type Schema,
+  type StringSchema,
   type TaggedSchema,
 } from './schema-dsl.js';
 import { suggestionHint } from './suggest.js';
@@ -109,7 +111,7 @@ class Validator {
     }
   }
 
-  private checkString(schema: Schema & { type: 'string' }, node: unknown, at: number, path: string): string {
+  private checkString(schema: StringSchema, node: unknown, at: number, path: string): string {
     let value: string;
     if (isScalar(node) && typeof node.value === 'string') value = node.value;
     // The label is kept exactly as typed (`1.0` stays "1.0") because it is matched against file text.
@@ -126,7 +128,7 @@ class Validator {
     return value;
   }
 
-  private checkNumber(schema: Schema & { type: 'number' }, node: unknown, at: number, path: string): number {
+  private checkNumber(schema: NumberSchema, node: unknown, at: number, path: string): number {
     if (!isScalar(node) || typeof node.value !== 'number') return this.typeError(schema, node, at, path);
     const v = node.value;
     const ok =
