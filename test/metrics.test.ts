@@ -223,6 +223,11 @@ describe('calibration', () => {
       close(f.inTheLarge, e.calibration_in_the_large, 1e-7, 'calibration-in-the-large');
     });
   }
+  it('no finite recalibration for one class or perfectly separated outcomes', () => {
+    // Separation: the glm likelihood has no maximum (Albert & Anderson 1984), so R glm warns; here it is null.
+    expect(calibrationGlm(Uint8Array.of(0, 0, 1, 1), Float64Array.of(0.1, 0.2, 0.8, 0.9))).toBeNull();
+    expect(calibrationGlm(Uint8Array.of(0, 0, 0), Float64Array.of(0.1, 0.2, 0.8))).toBeNull();
+  });
 });
 
 describe('PSI', () => {

@@ -111,6 +111,9 @@ const LOGIT_CLIP = 1e-15;
 const MAX_ITER = 100;
 const MAX_HALVINGS = 30;
 
+/** Log-likelihood, gradient and Hessian at one point: [ll, g0, g1, h00, h01, h11]. */
+type Stats = Float64Array;
+
 /**
  * Maximises sum y eta - log(1 + e^eta) with eta = a + b x (withSlope) or eta = a + x (x as an
  * offset). Newton steps with step halving on a log-likelihood decrease; converged when a full
@@ -120,25 +123,11 @@ const MAX_HALVINGS = 30;
 function newtonLogistic(y: Uint8Array, x: Float64Array, withSlope: boolean): [number, number] | null {
   let a = 0;
   let b = 1;
-  let ll = logLik(y, x, a, b);
+  let cur: Stats = new Float64Array(6);
+  let trial: Stats = new Float64Array(6);
+  evaluate(y, x, a, b, cur);
   for (let iter = 0; iter < MAX_ITER; iter++) {
-    let g0 = 0;
-    let g1 = 0;
-    let h00 = 0;
-    let h01 = 0;
-    let h11 = 0;
-    for (let i = 0; i < y.length; i++) {
-      const mu = 1 / (1 + Math.exp(-(a + b * x[i])));
-      const r = y[i] - mu;
-      const w = mu * (1 - mu);
-      g0 += r;
-      h00 += w;
-      if (withSlope) {
-        g1 += r * x[i];
-        h01 += w * x[i];
-        h11 += w * x[i] * x[i];
-      }
-    }
+    const [, g0, g1, h00, h01, h11] = cur;
     let da: number;
     let db = 0;
     if (withSlope) {
@@ -154,26 +143,45 @@ function newtonLogistic(y: Uint8Array, x: Float64Array, withSlope: boolean): [nu
       return [a + da, b + db];
     }
     let step = 1;
-    let next = logLik(y, x, a + da, b + db);
-    for (let h = 0; h < MAX_HALVINGS && !(next >= ll); h++) {
+    evaluate(y, x, a + da, b + db, trial);
+    for (let h = 0; h < MAX_HALVINGS && !(trial[0] >= cur[0]); h++) {
       step /= 2;
-      next = logLik(y, x, a + step * da, b + step * db);
+      evaluate(y, x, a + step * da, b + step * db, trial);
     }
-    if (!(next >= ll)) return null;
+    if (!(trial[0] >= cur[0])) return null;
     a += step * da;
     b += step * db;
-    ll = next;
+    [cur, trial] = [trial, cur];
   }
   return null;
 }
 
-function logLik(y: Uint8Array, x: Float64Array, a: number, b: number): number {
-  let s = 0;
+/** One pass: one exp and one log1p per row, stable for large |eta|. */
+function evaluate(y: Uint8Array, x: Float64Array, a: number, b: number, out: Stats): void {
+  let ll = 0;
+  let g0 = 0;
+  let g1 = 0;
+  let h00 = 0;
+  let h01 = 0;
+  let h11 = 0;
   for (let i = 0; i < y.length; i++) {
-    const eta = a + b * x[i];
-    // log(1 + e^eta) without overflow for large eta.
-    const softplus = eta > 0 ? eta + Math.log1p(Math.exp(-eta)) : Math.log1p(Math.exp(eta));
-    s += y[i] * eta - softplus;
+    const xi = x[i];
+    const eta = a + b * xi;
+    const e = Math.exp(-Math.abs(eta));
+    const mu = eta >= 0 ? 1 / (1 + e) : e / (1 + e);
+    ll += y[i] * eta - (Math.max(eta, 0) + Math.log1p(e));
+    const r = y[i] - mu;
+    const w = mu * (1 - mu);
+    g0 += r;
+    g1 += r * xi;
+    h00 += w;
+    h01 += w * xi;
+    h11 += w * xi * xi;
   }
-  return s;
+  out[0] = ll;
+  out[1] = g0;
+  out[2] = g1;
+  out[3] = h00;
+  out[4] = h01;
+  out[5] = h11;
 }

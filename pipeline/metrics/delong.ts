@@ -1,7 +1,7 @@
 /**
  * Uncertainty of an AUC and comparison of two AUCs on the same rows, by DeLong, DeLong &
  * Clarke-Pearson (1988), Biometrics 44(3), 837-845, with the placement values computed by the
- * midrank method of Sun & Xu (2014), IEEE Signal Processing Letters 21(11), 1389-1393: one sort,
+ * midrank method of Sun & Xu (2014), IEEE Signal Processing Letters 21(11), 1389-1393: sorting,
  * O(n log n), instead of the O(m n) pairwise kernel. Conventions (sample variances, CI clipped
  * to [0, 1], p = 2 Phi(-|z|)) are those of R pROC 1.18.0, oracle delong_auc.json.
  */
@@ -17,47 +17,61 @@ export interface Placements {
 }
 
 /**
- * Sun & Xu's V10_i = (Tz_i - Tx_i)/n, V01_j = 1 - (Tz_j - Ty_j)/m with midranks T over all rows
- * (z), events (x) and non-events (y): within a tie block the midrank difference is just the count
- * of the other class below plus half of it tied, which is what is accumulated here.
+ * Sun & Xu's V10_i = (Tz_i - Tx_i)/n and V01_j = 1 - (Tz_j - Ty_j)/m with midranks T over all
+ * rows (z), events (x) and non-events (y). The midrank difference Tz - Tx of an event is the
+ * number of non-events below it plus half of those tied with it (and symmetrically for a
+ * non-event), so each class is sorted once (native typed-array sort) and every row reads its two
+ * counts by binary search; placements come back in row order.
  */
 export function delongPlacements(y: Uint8Array, p: Float64Array): Placements {
   const m = checkScores('delong', y, p);
   const n = y.length - m;
   if (m === 0 || n === 0) throw new MetricInputError('needs both events and non-events', 'delong', { events: m, nonEvents: n });
-  const total = y.length;
-  // Slot of each row within its class, so placements come back in row order.
-  const slot = new Uint32Array(total);
-  for (let i = 0, a = 0, b = 0; i < total; i++) slot[i] = y[i] === 1 ? a++ : b++;
-  const order = new Uint32Array(total);
-  for (let i = 0; i < total; i++) order[i] = i;
-  order.sort((i, j) => (p[i] < p[j] ? -1 : p[i] > p[j] ? 1 : 0));
+  const cases = new Float64Array(m);
+  const controls = new Float64Array(n);
+  for (let i = 0, a = 0, b = 0; i < y.length; i++) {
+    if (y[i] === 1) cases[a++] = p[i];
+    else controls[b++] = p[i];
+  }
+  cases.sort();
+  controls.sort();
   const v10 = new Float64Array(m);
   const v01 = new Float64Array(n);
-  let posBelow = 0;
-  let negBelow = 0;
-  let start = 0;
-  while (start < total) {
-    const v = p[order[start]];
-    let end = start;
-    let cPos = 0;
-    while (end < total && p[order[end]] === v) {
-      cPos += y[order[end]];
-      end++;
+  for (let i = 0, a = 0, b = 0; i < y.length; i++) {
+    const v = p[i];
+    if (y[i] === 1) {
+      const below = lowerBound(controls, v);
+      v10[a++] = (below + (upperBound(controls, v) - below) / 2) / n;
+    } else {
+      const atOrBelow = upperBound(cases, v);
+      v01[b++] = (m - atOrBelow + (atOrBelow - lowerBound(cases, v)) / 2) / m;
     }
-    const cNeg = end - start - cPos;
-    const caseValue = (negBelow + cNeg / 2) / n;
-    const controlValue = (m - posBelow - cPos + cPos / 2) / m;
-    for (let k = start; k < end; k++) {
-      const r = order[k];
-      if (y[r] === 1) v10[slot[r]] = caseValue;
-      else v01[slot[r]] = controlValue;
-    }
-    posBelow += cPos;
-    negBelow += cNeg;
-    start = end;
   }
   return { v10, v01, auc: mean(v10) };
+}
+
+/** Number of entries of ascending `s` strictly below v. */
+function lowerBound(s: Float64Array, v: number): number {
+  let lo = 0;
+  let hi = s.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (s[mid] < v) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
+}
+
+/** Number of entries of ascending `s` at or below v. */
+function upperBound(s: Float64Array, v: number): number {
+  let lo = 0;
+  let hi = s.length;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (s[mid] <= v) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
 }
 
 export interface DelongAuc {
