@@ -5,25 +5,7 @@
  */
 import { createHash } from 'node:crypto';
 import type { Json } from '../stages/types.js';
-
-/** JSON with object keys sorted and Maps as sorted objects: equal values give equal text. */
-export function canonical(value: unknown): string {
-  if (value === null || value === undefined) return 'null';
-  if (typeof value === 'number') {
-    if (!Number.isFinite(value)) throw new Error(`cannot canonicalize ${value}`);
-    return JSON.stringify(value);
-  }
-  if (typeof value === 'string' || typeof value === 'boolean') return JSON.stringify(value);
-  if (Array.isArray(value)) return `[${value.map(canonical).join(',')}]`;
-  if (value instanceof Map) {
-    const keys = [...value.keys()].map(String).sort();
-    return `{${keys.map((k) => `${JSON.stringify(k)}:${canonical(value.get(k))}`).join(',')}}`;
-  }
-  if (ArrayBuffer.isView(value)) throw new Error('typed arrays are hashed by digest, not canonicalized');
-  const obj = value as Record<string, unknown>;
-  const keys = Object.keys(obj).filter((k) => obj[k] !== undefined).sort();
-  return `{${keys.map((k) => `${JSON.stringify(k)}:${canonical(obj[k])}`).join(',')}}`;
-}
+import { canonicalJson } from './config/canonical-json.js';
 
 export function hashOf(...parts: readonly (string | Uint8Array)[]): string {
   const h = createHash('sha256');
@@ -48,10 +30,10 @@ interface StepIdentity {
 }
 
 export function stageKey(id: StepIdentity & { readonly innerFolds: number }): string {
-  return hashOf('stage', id.kind, String(id.version), canonical(id.config), id.upstream, rowsDigest(id.context.train, id.context.apply), String(id.seed), String(id.innerFolds));
+  return hashOf('stage', id.kind, String(id.version), canonicalJson(id.config), id.upstream, rowsDigest(id.context.train, id.context.apply), String(id.seed), String(id.innerFolds));
 }
 
 export function learnerKey(id: StepIdentity & { readonly name: string }): string {
   // The learner's name is part of its identity only through its seed stream.
-  return hashOf('learner', id.kind, String(id.version), canonical(id.config), id.upstream, rowsDigest(id.context.train, id.context.apply), String(id.seed), id.name);
+  return hashOf('learner', id.kind, String(id.version), canonicalJson(id.config), id.upstream, rowsDigest(id.context.train, id.context.apply), String(id.seed), id.name);
 }

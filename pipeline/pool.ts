@@ -1,0 +1,41 @@
+/**
+ * The worker-thread pool. Tasks are whole fit contexts (the stage chain and learners of one
+ * context); column buffers are SharedArrayBuffer-backed, so sending a task copies no data.
+ */
+import { Piscina } from 'piscina';
+import { availableParallelism } from 'node:os';
+import { fileURLToPath } from 'node:url';
+import type { ContextResult, ContextTask } from './context-run.js';
+
+/** Under vitest this module is TypeScript; compiled, it is JavaScript. Pick the worker to match. */
+function workerTarget(): { filename: string; execArgv: string[] } {
+  const here = import.meta.url;
+  if (here.endsWith('.ts')) return { filename: fileURLToPath(new URL('./worker.ts', here)), execArgv: ['--import', 'tsx'] };
+  return { filename: fileURLToPath(new URL('./worker.js', here)), execArgv: [] };
+}
+
+export function defaultWorkers(): number {
+  return Math.max(1, availableParallelism());
+}
+
+export class ContextPool {
+  private readonly pool: Piscina;
+  private failure: Error | undefined;
+
+  constructor(workers: number) {
+    const { filename, execArgv } = workerTarget();
+    this.pool = new Piscina({ filename, execArgv, minThreads: workers, maxThreads: workers, idleTimeout: 60 * 60 * 1000 });
+    this.pool.on('error', (err: unknown) => {
+      this.failure = err instanceof Error ? err : new Error(String(err));
+    });
+  }
+
+  async run(task: ContextTask): Promise<ContextResult> {
+    if (this.failure) throw this.failure;
+    return (await this.pool.run(task)) as ContextResult;
+  }
+
+  async close(): Promise<void> {
+    await this.pool.destroy();
+  }
+}

@@ -1,0 +1,314 @@
+/**
+ * The runner: config and data in, a finished run folder out. It plans the contexts, sends each
+ * context to the pool, blends the learners with the stack, evaluates, and writes the run folder.
+ */
+import { performance } from 'node:perf_hooks';
+import { pino, type DestinationStream } from 'pino';
+import type { ResolvedConfig } from './config/types.js';
+import type { Column, Frame } from './frame.js';
+import { loadFrame } from './io/load.js';
+import { makePlan, type Plan } from './plan.js';
+import { ContextPool } from './pool.js';
+import type { ContextResult, ContextTask, StepRecord } from './context-run.js';
+import { Cache, bytesOf, float64From } from './cache.js';
+import { hashOf } from './keys.js';
+import { canonicalJson as canonical } from './config/canonical-json.js';
+import { fitStack, applyStack, type StackModel } from '../stages/stack.js';
+import { evaluateScores, type MetricSet } from './metrics/evaluate.js';
+import { createRng } from './rng.js';
+import { foldRows } from './folds.js';
+import { stageRegistry } from '../stages/index.js';
+import type { Json, Stage, StageReport } from '../stages/types.js';
+import { RunFolder } from './run-folder.js';
+
+export const CODE_VERSION = '0.1.0';
+
+export interface RunOptions {
+  readonly workers: number;
+  readonly runsDir: string;
+  readonly cacheDir: string;
+  /** Where JSON log lines go besides the run folder's log.jsonl (e.g. stdout when not a TTY). */
+  readonly logStream?: DestinationStream;
+  /** Human progress lines (stderr on a TTY); silent when absent. */
+  readonly progress?: (line: string) => void;
+  readonly now?: Date;
+}
+
+export interface RunOutcome {
+  readonly runDir: string;
+  readonly metrics: Metrics;
+  readonly manifest: Manifest;
+}
+
+export interface Metrics {
+  readonly oof: Record<string, MetricSet>;
+  readonly holdout: Record<string, MetricSet>;
+  readonly stack: { readonly weights: Record<string, number>; readonly intercept: number; readonly nonnegative: boolean };
+  readonly stages: Record<string, Json>;
+}
+
+export interface Manifest {
+  readonly format: 1;
+  readonly name: string;
+  readonly code_version: string;
+  readonly created: string;
+  readonly config_file: string;
+  readonly config: Json;
+  readonly config_digest: string;
+  readonly data: { readonly file: string; readonly digest: string; readonly key: string; readonly rows: number; readonly events: number };
+  readonly seed: number;
+  readonly split: { readonly folds: number; readonly dev_rows: number; readonly holdout_rows: number; readonly digest: string };
+  readonly workers: number;
+  readonly steps: StepRecord[];
+  readonly seconds: number;
+  readonly complete: true;
+}
+
+/** Holds stack and evaluation results in the cache, so a repeated run is all hits. */
+interface BlendResult {
+  model: StackModel;
+  /** Stack predictions for dev rows, cross-validated over the outer folds (the stack's honest OOF). */
+  oof: Float64Array;
+  holdout: Float64Array;
+}
+
+export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Promise<RunOutcome> {
+  const t0 = performance.now();
+  const say = opts.progress ?? (() => undefined);
+  const folder = RunFolder.begin(opts.runsDir, config.name, opts.now ?? new Date());
+  const fileLog = pino.destination({ dest: folder.path('log.jsonl'), sync: true });
+  const streams: { stream: DestinationStream }[] = [{ stream: fileLog }];
+  if (opts.logStream) streams.push({ stream: opts.logStream });
+  const runLog = pino({ base: { run: folder.id } }, pino.multistream(streams));
+  try {
+    say(`loading ${config.data.file}`);
+    const loaded = await loadFrame(config.data.file, {
+      target: config.data.target,
+      positive: config.data.positive,
+      id: config.data.id,
+      columns: config.data.columns,
+      missing: config.data.missing,
+    });
+    const frame = shareFrame(loaded.frame);
+    const dataKey = hashOf('data', loaded.digest, canonical({ target: config.data.target, positive: config.data.positive ?? null, id: config.data.id ?? null, columns: config.data.columns, missing: config.data.missing }));
+    const events = countEvents(frame.target);
+    runLog.info({ rows: frame.nRows, events, digest: loaded.digest }, 'data loaded');
+    say(`${frame.nRows} rows, ${events} events (${((100 * events) / frame.nRows).toFixed(2)}%)`);
+
+    const plan = makePlan(config, frame);
+    const inputColumns = [...frame.columns.keys()].filter((n) => {
+      const role = frame.roles.get(n);
+      return role === 'feature' || role === 'date';
+    });
+    const cache = new Cache(opts.cacheDir);
+    const pool = new ContextPool(opts.workers);
+    let results: ContextResult[];
+    try {
+      let done = 0;
+      results = await Promise.all(
+        plan.contexts.map(async (context) => {
+          const task: ContextTask = {
+            context,
+            columns: frame.columns,
+            inputColumns,
+            target: frame.target,
+            stages: plan.stages,
+            learners: plan.learners,
+            innerFolds: config.split.innerFolds,
+            seed: config.seed,
+            dataKey,
+            cacheDir: opts.cacheDir,
+            keepStates: context.name === 'final',
+          };
+          const r = await pool.run(task);
+          done++;
+          const hits = r.steps.filter((s) => s.hit).length;
+          say(`context ${r.context} done (${done}/${plan.contexts.length}; ${hits}/${r.steps.length} steps from cache)`);
+          for (const s of r.steps) runLog.info({ step: s.step, key: s.key, hit: s.hit, seconds: s.seconds }, 'step');
+          return r;
+        }),
+      );
+    } finally {
+      await pool.close();
+    }
+    const byName = new Map(results.map((r) => [r.context, r]));
+    const learnerNames = plan.learners.map((l) => l.name);
+    const { oofPreds, holdPreds } = assemblePredictions(plan, byName, learnerNames, frame.nRows);
+
+    const steps: StepRecord[] = plan.contexts.flatMap((c) => byName.get(c.name)?.steps ?? []);
+    const stackKey = hashOf('stack', canonical(config.stack), ...plan.contexts.flatMap((c) => learnerNames.map((n) => byName.get(c.name)?.learnerKeys.get(n) ?? '')));
+    const tStack = performance.now();
+    const cachedBlend = cache.get(stackKey);
+    const blend = cachedBlend ? decodeBlend(cachedBlend) : blendAndStore(cache, stackKey, plan, learnerNames, oofPreds, holdPreds, frame.target, config);
+    steps.push({ step: 'stack', key: stackKey, hit: cachedBlend !== undefined, seconds: (performance.now() - tStack) / 1000 });
+    say(`stack weights: ${learnerNames.map((n, i) => `${n} ${blend.model.weights[i].toFixed(3)}`).join(', ')}`);
+
+    const final = byName.get('final');
+    if (!final) throw new Error('internal: the final context did not run');
+    const stageReports = describeStages(final.states);
+    if (final.dropped.length > 0) {
+      runLog.warn({ columns: final.dropped }, 'columns not encoded by any stage are not used by the learners');
+      say(`warning: ${final.dropped.length} column(s) reach no learner because no stage encodes them: ${final.dropped.join(', ')}`);
+    }
+
+    const tEval = performance.now();
+    const evalKey = hashOf('evaluate', stackKey, canonical(config.evaluate), String(config.seed), 'v1');
+    const cachedEval = cache.get(evalKey);
+    let metrics: Metrics;
+    if (cachedEval) {
+      metrics = JSON.parse(Buffer.from(cachedEval.get('metrics.json') ?? new Uint8Array()).toString('utf8')) as Metrics;
+    } else {
+      metrics = evaluateAll(config, plan, learnerNames, oofPreds, holdPreds, blend, frame.target, stageReports);
+      cache.put(evalKey, new Map([['metrics.json', Buffer.from(JSON.stringify(metrics))]]));
+    }
+    steps.push({ step: 'evaluate', key: evalKey, hit: cachedEval !== undefined, seconds: (performance.now() - tEval) / 1000 });
+
+    await folder.writeOof(frame, plan, learnerNames, oofPreds, blend.oof);
+    await folder.writeHoldout(frame, plan, learnerNames, holdPreds, blend.holdout);
+    for (const r of stageReports) for (const [name, table] of Object.entries(r.report.tables ?? {})) await folder.writeTable(name, table);
+    folder.writeJson('metrics.json', metrics);
+    const manifest: Manifest = {
+      format: 1,
+      name: config.name,
+      code_version: CODE_VERSION,
+      created: folder.created,
+      config_file: config.file,
+      config: configForManifest(config),
+      config_digest: hashOf('config', canonical(configForManifest(config))),
+      data: { file: config.data.file, digest: loaded.digest, key: dataKey, rows: frame.nRows, events },
+      seed: config.seed,
+      split: { folds: plan.split.folds, dev_rows: plan.split.dev.length, holdout_rows: plan.split.holdout.length, digest: hashOf('split', bytesOf(plan.split.isHoldout), bytesOf(plan.split.devFold)) },
+      workers: opts.workers,
+      steps,
+      seconds: (performance.now() - t0) / 1000,
+      complete: true,
+    };
+    folder.writeJson('manifest.json', manifest);
+    runLog.info({ seconds: manifest.seconds }, 'run complete');
+    fileLog.flushSync();
+    const runDir = folder.finish();
+    return { runDir, metrics, manifest };
+  } catch (err) {
+    runLog.error({ err }, 'run failed');
+    folder.abandon();
+    throw err;
+  } finally {
+    fileLog.end();
+  }
+}
+
+/** Copy column buffers into SharedArrayBuffers once, so every worker reads them without a copy. */
+function shareFrame(frame: Frame): Frame {
+  const columns = new Map<string, Column>();
+  for (const [name, c] of frame.columns) {
+    if (c.type === 'numeric') columns.set(name, { ...c, values: shared(Float64Array, c.values) });
+    else if (c.type === 'date') columns.set(name, { ...c, days: shared(Float64Array, c.days) });
+    else columns.set(name, { ...c, codes: shared(Int32Array, c.codes) });
+  }
+  return { ...frame, columns, target: shared(Uint8Array, frame.target) };
+}
+
+function shared<T extends Float64Array | Int32Array | Uint8Array>(Ctor: { new (b: SharedArrayBuffer): T; BYTES_PER_ELEMENT: number }, src: T): T {
+  const out = new Ctor(new SharedArrayBuffer(src.length * Ctor.BYTES_PER_ELEMENT));
+  out.set(src);
+  return out;
+}
+
+function countEvents(target: Uint8Array): number {
+  let e = 0;
+  for (let i = 0; i < target.length; i++) e += target[i];
+  return e;
+}
+
+/** Full-length prediction arrays (NaN where a row has no prediction of that kind). */
+function assemblePredictions(plan: Plan, byName: ReadonlyMap<string, ContextResult>, learners: readonly string[], nRows: number) {
+  const oofPreds = learners.map(() => new Float64Array(nRows).fill(NaN));
+  const holdPreds = learners.map(() => new Float64Array(nRows).fill(NaN));
+  for (const ctx of plan.contexts) {
+    const r = byName.get(ctx.name);
+    if (!r) throw new Error(`internal: context ${ctx.name} did not run`);
+    const into = ctx.name === 'final' ? holdPreds : oofPreds;
+    learners.forEach((name, j) => {
+      const p = r.predictions.get(name);
+      if (!p) throw new Error(`internal: learner ${name} has no predictions in ${ctx.name}`);
+      for (let i = 0; i < ctx.apply.length; i++) into[j][ctx.apply[i]] = p[i];
+    });
+  }
+  return { oofPreds, holdPreds };
+}
+
+const STACK_L2 = 1;
+
+function blendAndStore(cache: Cache, key: string, plan: Plan, names: readonly string[], oof: Float64Array[], hold: Float64Array[], target: Uint8Array, config: ResolvedConfig): BlendResult {
+  const opts = { nonnegative: config.stack.nonnegative, l2: STACK_L2 };
+  const model = fitStack(names, oof, plan.split.dev, target, opts);
+  const holdout = applyStack(model, hold, plan.split.holdout);
+  // The stack's own out-of-fold estimate: refit it over the OOF matrix with the same outer folds.
+  const nRows = target.length;
+  const full = new Float64Array(nRows).fill(NaN);
+  for (let k = 0; k < plan.split.folds; k++) {
+    const fitRows = foldRows(plan.split.dev, plan.split.devFold, k, false);
+    const applyRows = foldRows(plan.split.dev, plan.split.devFold, k, true);
+    const m = fitStack(names, oof, fitRows, target, opts);
+    const p = applyStack(m, oof, applyRows);
+    for (let i = 0; i < applyRows.length; i++) full[applyRows[i]] = p[i];
+  }
+  const stackOof = new Float64Array(plan.split.dev.length);
+  for (let i = 0; i < plan.split.dev.length; i++) stackOof[i] = full[plan.split.dev[i]];
+  cache.put(key, new Map([['model.json', Buffer.from(JSON.stringify(model))], ['oof.f64', bytesOf(stackOof)], ['holdout.f64', bytesOf(holdout)]]));
+  return { model, oof: stackOof, holdout };
+}
+
+function decodeBlend(files: ReadonlyMap<string, Uint8Array>): BlendResult {
+  const get = (n: string): Uint8Array => {
+    const v = files.get(n);
+    if (!v) throw new Error(`internal: cached stack lacks ${n}`);
+    return v;
+  };
+  return { model: JSON.parse(Buffer.from(get('model.json')).toString('utf8')) as StackModel, oof: float64From(get('oof.f64')), holdout: float64From(get('holdout.f64')) };
+}
+
+function gather(values: Float64Array, rows: Uint32Array): Float64Array {
+  const out = new Float64Array(rows.length);
+  for (let i = 0; i < rows.length; i++) out[i] = values[rows[i]];
+  return out;
+}
+
+function gatherTarget(target: Uint8Array, rows: Uint32Array): Uint8Array {
+  const out = new Uint8Array(rows.length);
+  for (let i = 0; i < rows.length; i++) out[i] = target[rows[i]];
+  return out;
+}
+
+function evaluateAll(config: ResolvedConfig, plan: Plan, names: readonly string[], oof: Float64Array[], hold: Float64Array[], blend: BlendResult, target: Uint8Array, reports: { kind: string; report: StageReport }[]): Metrics {
+  const yDev = gatherTarget(target, plan.split.dev);
+  const yHold = gatherTarget(target, plan.split.holdout);
+  const evalOpts = (part: string, name: string) => ({ budget: config.evaluate.budget, budgets: config.evaluate.budgets, rng: createRng(config.seed, 'bootstrap', part, name), bootstrap: 1000 });
+  const oofM: Record<string, MetricSet> = {};
+  const holdM: Record<string, MetricSet> = {};
+  names.forEach((n, j) => {
+    oofM[n] = evaluateScores(yDev, gather(oof[j], plan.split.dev), evalOpts('oof', n));
+    holdM[n] = evaluateScores(yHold, gather(hold[j], plan.split.holdout), evalOpts('holdout', n));
+  });
+  oofM.stack = evaluateScores(yDev, blend.oof, evalOpts('oof', 'stack'));
+  holdM.stack = evaluateScores(yHold, blend.holdout, evalOpts('holdout', 'stack'));
+  const weights: Record<string, number> = {};
+  names.forEach((n, j) => (weights[n] = blend.model.weights[j]));
+  const stages: Record<string, Json> = {};
+  for (const r of reports) if (r.report.metrics !== undefined) stages[r.kind] = r.report.metrics;
+  return { oof: oofM, holdout: holdM, stack: { weights, intercept: blend.model.intercept, nonnegative: blend.model.nonnegative }, stages };
+}
+
+function describeStages(states: readonly { kind: string; state: Json }[]): { kind: string; report: StageReport }[] {
+  const out: { kind: string; report: StageReport }[] = [];
+  for (const s of states) {
+    const stage = stageRegistry.get(s.kind) as Stage<unknown, Json> | undefined;
+    if (stage?.describe) out.push({ kind: s.kind, report: stage.describe(s.state) });
+  }
+  return out;
+}
+
+/** The resolved config as plain JSON (Maps become objects with sorted keys). */
+export function configForManifest(config: ResolvedConfig): Json {
+  return JSON.parse(canonical({ ...config, file: undefined })) as Json;
+}

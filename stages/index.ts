@@ -1,0 +1,23 @@
+/**
+ * The registry: config key → stage module. A newcomer finds a stage's code from its config key:
+ * `features.<kind>` lives in `stages/<kind>.ts`, `learners.*.kind: <kind>` in `stages/learners/<kind>.ts`.
+ */
+import type { Learner, Stage } from './types.js';
+import { datesStage } from './dates.js';
+import { rateEncode } from './rate-encode.js';
+import { impute } from './impute.js';
+import { treeBins } from './tree-bins.js';
+import { leafZ } from './leaf-z.js';
+import { summaries } from './summaries.js';
+import { logistic } from './learners/logistic.js';
+
+type AnyStage = Stage<never, never>;
+type AnyLearner = Learner<never, never>;
+
+export const stageRegistry: ReadonlyMap<string, AnyStage> = new Map<string, AnyStage>(
+  ([datesStage, rateEncode, treeBins, leafZ, summaries, impute] as unknown as AnyStage[]).map((s) => [s.kind, s]),
+);
+
+export const learnerRegistry: ReadonlyMap<string, AnyLearner> = new Map<string, AnyLearner>(
+  ([logistic] as unknown as AnyLearner[]).map((l) => [l.kind, l]),
+);

@@ -1,0 +1,97 @@
+/**
+ * `npm run bench`: foldstack against the hand-written Python peer (../shared/bench/peer_pipeline.py,
+ * scikit-learn + XGBoost) on the same invented demo CSV, measured in the same run on this machine.
+ * Prints wall seconds, peak RSS and holdout AUC for both sides, and their ratios.
+ * Never part of `npm test`: timings belong here, not in unit tests.
+ *
+ *   npm run bench                 # 50k and 200k rows
+ *   npm run bench -- 50000        # chosen sizes only
+ */
+import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
+import { spawnSync } from 'node:child_process';
+import { dirname, join } from 'node:path';
+import { fileURLToPath } from 'node:url';
+import { generateDemo } from '../../data-demo/generate.js';
+
+const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..', '..');
+const out = join(root, 'bench-out');
+const peerScript = join(root, '..', 'shared', 'bench', 'peer_pipeline.py');
+const python = '/usr/bin/python3';
+const SEED = 7;
+
+interface Measured {
+  seconds: number;
+  rssMb: number;
+  auc: number | undefined;
+}
+
+/** GNU time reports the child's peak RSS, which no Node API gives for another process. */
+function timed(cmd: string, args: string[], cwd: string): { m: Omit<Measured, 'auc'>; stdout: string } {
+  const timeFile = join(out, 'time.txt');
+  const r = spawnSync('/usr/bin/time', ['-o', timeFile, '-f', '%e %M', cmd, ...args], { cwd, encoding: 'utf8', stdio: ['ignore', 'pipe', 'inherit'], maxBuffer: 1 << 28 });
+  if (r.status !== 0) throw new Error(`${cmd} ${args.join(' ')} exited with ${r.status}`);
+  const [sec, kb] = readFileSync(timeFile, 'utf8').trim().split('\n').pop()!.split(' ').map(Number);
+  return { m: { seconds: sec, rssMb: kb / 1024 }, stdout: r.stdout };
+}
+
+function peerAvailable(): boolean {
+  if (!existsSync(peerScript) || !existsSync(python)) return false;
+  return spawnSync(python, ['-c', 'import sklearn, xgboost, pandas, scipy'], { stdio: 'ignore' }).status === 0;
+}
+
+function benchConfig(csv: string): string {
+  return `name: bench
+seed: ${SEED}
+data:
+  file: ${csv}
+  target: missed_payment_90d
+  positive: "yes"
+  id: application_id
+  columns: {applied_on: date, registered_on: date, owner_age_band: protected}
+split: {folds: 5, holdout: {fraction: 0.2}}
+features:
+  dates: {as_of: applied_on, pairs: [[registered_on, applied_on]]}
+  rate-encode: {smoothing: 20}
+  tree-bins: {max_depth: 3, min_leaf: 0.05}
+  leaf-z: {}
+  summaries: {}
+learners:
+  lr: {kind: logistic, l2: 1.0}
+stack: {nonnegative: true}
+evaluate: {budget: 0.1}
+`;
+}
+
+async function main(): Promise<void> {
+  const sizes = process.argv.slice(2).map(Number).filter((n) => Number.isInteger(n) && n > 0);
+  const rowsList = sizes.length ? sizes : [50_000, 200_000];
+  mkdirSync(out, { recursive: true });
+  const peer = peerAvailable();
+  if (!peer) process.stderr.write('peer skipped: needs Debian python3-sklearn python3-xgboost python3-pandas python3-scipy and ../shared/bench/peer_pipeline.py\n');
+  const lines: string[] = [];
+  for (const rows of rowsList) {
+    const csv = join(out, `demo-${rows}.csv`);
+    if (!existsSync(csv)) await generateDemo({ rows, seed: SEED, out: csv });
+    const cfg = join(out, `bench-${rows}.yaml`);
+    writeFileSync(cfg, benchConfig(csv));
+    const cacheDir = join(out, `cache-${rows}`);
+    rmSync(cacheDir, { recursive: true, force: true });
+    const fs = timed(process.execPath, [join(root, 'dist', 'pipeline', 'cli.js'), 'run', cfg, '--workers', '2', '--runs-dir', join(out, 'runs'), '--cache-dir', cacheDir], root);
+    const runDir = fs.stdout.trim().split('\n').pop()!;
+    const metrics = JSON.parse(readFileSync(join(runDir, 'metrics.json'), 'utf8')) as { holdout: { stack: { auc: number } } };
+    const ours: Measured = { ...fs.m, auc: metrics.holdout.stack.auc };
+    const warm = timed(process.execPath, [join(root, 'dist', 'pipeline', 'cli.js'), 'run', cfg, '--workers', '2', '--runs-dir', join(out, 'runs'), '--cache-dir', cacheDir], root).m;
+    let line = `${rows} rows: foldstack ${ours.seconds.toFixed(1)} s, ${ours.rssMb.toFixed(0)} MB, stack AUC ${ours.auc?.toFixed(4)}; cached re-run ${warm.seconds.toFixed(1)} s`;
+    if (peer) {
+      const resFile = join(out, `peer-${rows}.json`);
+      const p = timed(python, [peerScript, '--data', csv, '--target', 'missed_payment_90d', '--positive', 'yes', '--id', 'application_id', '--date-cols', 'applied_on,registered_on', '--drop-cols', 'owner_age_band', '--seed', String(SEED), '--threads', '2', '--out', resFile], root).m;
+      const res = JSON.parse(readFileSync(resFile, 'utf8')) as { metrics: { stack: { roc_auc: number } } };
+      line += ` | peer ${p.seconds.toFixed(1)} s, ${p.rssMb.toFixed(0)} MB, stack AUC ${res.metrics.stack.roc_auc.toFixed(4)} | ratio time ${(ours.seconds / p.seconds).toFixed(3)}×, RSS ${(ours.rssMb / p.rssMb).toFixed(3)}×`;
+    }
+    process.stdout.write(line + '\n');
+    lines.push(line);
+  }
+  writeFileSync(join(out, 'summary.txt'), lines.join('\n') + '\n');
+}
+
+await main();
