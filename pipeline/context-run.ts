@@ -47,6 +47,16 @@ export interface ContextTask {
   readonly keepStates: boolean;
 }
 
+export interface StepFailureInfo {
+  readonly name: string;
+  readonly message: string;
+  /** e.g. `tree-bins@fold-2`. */
+  readonly step: string;
+  readonly stack: string;
+}
+
+export type ContextOutcome = { readonly ok: true; readonly result: ContextResult } | { readonly ok: false; readonly failure: StepFailureInfo };
+
 export interface StepRecord {
   readonly step: string;
   readonly key: string;
@@ -84,11 +94,14 @@ export function runContext(task: ContextTask): ContextResult {
   const steps: StepRecord[] = [];
   const states: { kind: string; state: Json }[] = [];
 
+  // The numeric features as they stand before imputation: for learners that take missing values.
+  let beforeImpute: string[] | undefined;
   for (const item of task.stages) {
+    if (item.kind === 'impute') beforeImpute = available.filter((n) => mustGet(columns, n).type === 'numeric');
     const stage = stageRegistry.get(item.kind) as Stage<unknown, Json> | undefined;
     if (!stage) throw new Error(`unknown stage kind ${item.kind}`);
-    const config = stage.resolveConfig(item.config);
-    const inputs = stage.selectInputs(config, available.map((n) => mustGet(columns, n)));
+    const config = atStep(`${stage.kind}@${context.name}`, () => stage.resolveConfig(item.config));
+    const inputs = atStep(`${stage.kind}@${context.name}`, () => stage.selectInputs(config, available.map((n) => mustGet(columns, n))));
     const key = stageKey({ kind: stage.kind, version: stage.version, config: item.config, upstream, context, seed: task.seed, innerFolds: task.innerFolds });
     const t0 = performance.now();
     const cached = cache.get(key);
@@ -96,7 +109,7 @@ export function runContext(task: ContextTask): ContextResult {
     if (cached) {
       out = decodeStageOutput(cached, ctxRows, nRows);
     } else {
-      out = fitStageInContext(stage, config, inputs, columns, task);
+      out = atStep(`${stage.kind}@${context.name}`, () => fitStageInContext(stage, config, inputs, columns, task));
       cache.put(key, encodeStageOutput(out, ctxRows));
     }
     steps.push({ step: `${stage.kind}@${context.name}`, key, hit: cached !== undefined, seconds: (performance.now() - t0) / 1000 });
@@ -114,13 +127,15 @@ export function runContext(task: ContextTask): ContextResult {
   const dropped = available.filter((n) => mustGet(columns, n).type !== 'numeric');
   available = available.filter((n) => mustGet(columns, n).type === 'numeric');
   const features = available.map((n) => (mustGet(columns, n) as NumericColumn).values);
+  const rawNames = beforeImpute ?? available;
+  const rawFeatures = rawNames.map((n) => (mustGet(columns, n) as NumericColumn).values);
   const predictions = new Map<string, Float64Array>();
   const learnerKeys = new Map<string, string>();
   const models: { name: string; model: Json }[] = [];
   for (const item of task.learners) {
     const learner = learnerRegistry.get(item.kind) as Learner<unknown, Json> | undefined;
     if (!learner) throw new Error(`unknown learner kind ${item.kind}`);
-    const config = learner.resolveConfig(item.config);
+    const config = atStep(`learner:${item.name}@${context.name}`, () => learner.resolveConfig(item.config));
     const key = learnerKey({ kind: learner.kind, version: learner.version, config: item.config, upstream, context, seed: task.seed, name: item.name });
     const t0 = performance.now();
     const cached = cache.get(key);
@@ -130,8 +145,11 @@ export function runContext(task: ContextTask): ContextResult {
       pred = float64From(mustGet(cached, 'pred.f64'));
       model = JSON.parse(Buffer.from(mustGet(cached, 'model.json')).toString('utf8')) as Json;
     } else {
-      model = learner.fit({ features, names: available, rows: context.train, target: task.target, config, rng: createRng(task.seed, 'learner', item.name, context.name) });
-      pred = learner.predict(model, features, context.apply);
+      [model, pred] = atStep(`learner:${item.name}@${context.name}`, () => {
+        const [X, names] = learner.handlesMissing ? [rawFeatures, rawNames] : [features, available];
+        const m = learner.fit({ features: X, names, rows: context.train, target: task.target, config, rng: createRng(task.seed, 'learner', item.name, context.name) });
+        return [m, learner.predict(m, X, context.apply)] as const;
+      });
       cache.put(key, new Map([['pred.f64', bytesOf(pred)], ['model.json', Buffer.from(JSON.stringify(model))]]));
     }
     steps.push({ step: `learner:${item.name}@${context.name}`, key, hit: cached !== undefined, seconds: (performance.now() - t0) / 1000 });
@@ -243,6 +261,16 @@ function decodeStageOutput(files: ReadonlyMap<string, Uint8Array>, ctxRows: Uint
   });
   const state = JSON.parse(Buffer.from(mustGet(files, 'state.json')).toString('utf8')) as Json;
   return { columns, state };
+}
+
+/** Run `fn`, marking any error it throws with the step it happened in. */
+function atStep<T>(step: string, fn: () => T): T {
+  try {
+    return fn();
+  } catch (err) {
+    if (err instanceof Error && (err as { step?: unknown }).step === undefined) Object.assign(err, { step });
+    throw err;
+  }
 }
 
 export function concatRows(a: Uint32Array, b: Uint32Array): Uint32Array {

@@ -31,3 +31,22 @@ export class UsageError extends FoldstackError {
     super(message, hint, EXIT.usage);
   }
 }
+
+/**
+ * A stage or learner failed inside a worker. Stage errors name their problem in their class name
+ * (…ConfigError for settings, …InputError / …LeakageError for data), which picks the exit code.
+ */
+export class StepFailure extends FoldstackError {
+  readonly step: string;
+  readonly originalName: string;
+  readonly workerStack: string;
+
+  constructor(info: { name: string; message: string; step: string; stack: string }) {
+    const exit = /ConfigError$/.test(info.name) ? EXIT.config : /(InputError|LeakageError)$/.test(info.name) ? EXIT.data : EXIT.runFailure;
+    const hint = exit === EXIT.config ? 'fix the setting in the config and run again' : exit === EXIT.data ? 'fix the data (or declare the column differently) and run again' : 're-run with --debug for the stack trace';
+    super(`${info.step}: ${info.message}`, hint, exit);
+    this.step = info.step;
+    this.originalName = info.name;
+    this.workerStack = info.stack;
+  }
+}

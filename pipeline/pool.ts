@@ -5,7 +5,8 @@
 import { Piscina } from 'piscina';
 import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
-import type { ContextResult, ContextTask } from './context-run.js';
+import type { ContextOutcome, ContextResult, ContextTask } from './context-run.js';
+import { StepFailure } from './errors.js';
 
 /** Under vitest this module is TypeScript; compiled, it is JavaScript. Pick the worker to match. */
 function workerTarget(): { filename: string; execArgv: string[] } {
@@ -32,7 +33,9 @@ export class ContextPool {
 
   async run(task: ContextTask): Promise<ContextResult> {
     if (this.failure) throw this.failure;
-    return (await this.pool.run(task)) as ContextResult;
+    const outcome = (await this.pool.run(task)) as ContextOutcome;
+    if (!outcome.ok) throw new StepFailure(outcome.failure);
+    return outcome.result;
   }
 
   async close(): Promise<void> {

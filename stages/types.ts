@@ -68,8 +68,15 @@ export interface LearnerFitInput<Cfg> {
 export interface Learner<Cfg, Model> {
   readonly kind: string;
   readonly version: number;
+  /**
+   * True when the learner takes missing values itself (NaN in `features`, e.g. trees that learn a
+   * default direction). Otherwise it sees the imputed matrix (median + `__missing` flags).
+   */
+  readonly handlesMissing?: boolean;
   resolveConfig(raw: unknown): Cfg;
   fit(input: LearnerFitInput<Cfg>): Model;
   /** Probability of the event for each of `rows`. */
   predict(model: Model, features: readonly Float64Array[], rows: Uint32Array): Float64Array;
+  /** Optional: tables (e.g. importances) and metrics about a fitted model, for the run folder. */
+  describe?(model: Model): StageReport;
 }

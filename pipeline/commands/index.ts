@@ -1,0 +1,7 @@
+/** Every `foldstack` subcommand, in the order `--help` lists them. One file per command. */
+import type { Command } from './command.js';
+import { runCommand } from './run.js';
+import { checkCommand } from './check.js';
+import { schemaCommand } from './schema.js';
+
+export const commands: readonly Command[] = [runCommand, checkCommand, schemaCommand];
