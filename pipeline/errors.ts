@@ -10,7 +10,21 @@ export const EXIT = {
   data: 4,
   drift: 5,
   locked: 6,
+  /** SIGINT/SIGTERM stopped the run; its partial folder was removed (128 + SIGINT, as shells report). */
+  interrupted: 130,
 } as const;
+
+/** One line per exit code, for `--help` and the README. */
+export const EXIT_MEANINGS: Readonly<Record<keyof typeof EXIT, string>> = {
+  ok: 'success',
+  runFailure: 'the run failed (a bug or an environment problem such as an unwritable folder)',
+  usage: 'bad command line',
+  config: 'bad config (or a setting a stage rejected)',
+  data: 'bad data (unreadable file, wrong shape, target problems)',
+  drift: 'drift alarm',
+  locked: 'another run of the same config name holds the lock',
+  interrupted: 'stopped by SIGINT/SIGTERM; nothing was left behind',
+};
 
 export class FoldstackError extends Error {
   constructor(message: string, readonly hint: string, readonly exitCode: number) {
@@ -23,6 +37,13 @@ export class FoldstackError extends Error {
 export class PlanError extends FoldstackError {
   constructor(message: string, hint: string) {
     super(message, hint, EXIT.data);
+  }
+}
+
+/** The run was stopped by a signal; the runner abandons its partial folder before this reaches the CLI. */
+export class RunInterrupted extends FoldstackError {
+  constructor(readonly signal: string) {
+    super(`stopped by ${signal}; the partial run folder was removed`, 'nothing to clean up; run again when ready', EXIT.interrupted);
   }
 }
 

@@ -20,6 +20,7 @@ import { foldRows } from './folds.js';
 import { stageRegistry } from '../stages/index.js';
 import type { Json, Stage, StageReport } from '../stages/types.js';
 import { RunFolder } from './run-folder.js';
+import { RunInterrupted } from './errors.js';
 
 export const CODE_VERSION = '0.1.0';
 
@@ -32,6 +33,10 @@ export interface RunOptions {
   /** Human progress lines (stderr on a TTY); silent when absent. */
   readonly progress?: (line: string) => void;
   readonly now?: Date;
+  /** Aborting stops the run at the next step boundary (running workers are terminated) and removes its partial folder. */
+  readonly signal?: AbortSignal;
+  /** The business date the run stands for (`--as-of`, YYYY-MM-DD), recorded in the manifest. */
+  readonly asOf?: string;
 }
 
 export interface RunOutcome {
@@ -61,6 +66,7 @@ export interface Manifest {
   readonly workers: number;
   readonly steps: StepRecord[];
   readonly seconds: number;
+  readonly as_of?: string;
   readonly complete: true;
 }
 
@@ -80,7 +86,11 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
   const streams: { stream: DestinationStream }[] = [{ stream: fileLog }];
   if (opts.logStream) streams.push({ stream: opts.logStream });
   const runLog = pino({ base: { run: folder.id } }, pino.multistream(streams));
+  const checkpoint = () => {
+    if (opts.signal?.aborted) throw new RunInterrupted(String(opts.signal.reason ?? 'abort'));
+  };
   try {
+    checkpoint();
     say(`loading ${config.data.file}`);
     const loaded = await loadFrame(config.data.file, {
       target: config.data.target,
@@ -105,7 +115,8 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
     let results: ContextResult[];
     try {
       let done = 0;
-      results = await Promise.all(
+      checkpoint();
+      results = await untilAborted(opts.signal, Promise.all(
         plan.contexts.map(async (context) => {
           const task: ContextTask = {
             context,
@@ -127,10 +138,11 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
           for (const s of r.steps) runLog.info({ step: s.step, key: s.key, hit: s.hit, seconds: s.seconds }, 'step');
           return r;
         }),
-      );
+      ));
     } finally {
       await pool.close();
     }
+    checkpoint();
     const byName = new Map(results.map((r) => [r.context, r]));
     const learnerNames = plan.learners.map((l) => l.name);
     const { oofPreds, holdPreds } = assemblePredictions(plan, byName, learnerNames, frame.nRows);
@@ -166,6 +178,7 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
     await folder.writeOof(frame, plan, learnerNames, oofPreds, blend.oof);
     await folder.writeHoldout(frame, plan, learnerNames, holdPreds, blend.holdout);
     for (const r of stageReports) for (const [name, table] of Object.entries(r.report.tables ?? {})) await folder.writeTable(name, table);
+    checkpoint();
     folder.writeJson('metrics.json', metrics);
     const manifest: Manifest = {
       format: 1,
@@ -181,6 +194,7 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
       workers: opts.workers,
       steps,
       seconds: (performance.now() - t0) / 1000,
+      ...(opts.asOf === undefined ? {} : { as_of: opts.asOf }),
       complete: true,
     };
     folder.writeJson('manifest.json', manifest);
@@ -195,6 +209,18 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
   } finally {
     fileLog.end();
   }
+}
+
+/** Rejects with RunInterrupted as soon as `signal` aborts, so the pool can be torn down mid-context. */
+function untilAborted<T>(signal: AbortSignal | undefined, work: Promise<T>): Promise<T> {
+  if (!signal) return work;
+  let onAbort = (): void => undefined;
+  const aborted = new Promise<never>((_, reject) => {
+    onAbort = () => reject(new RunInterrupted(String(signal.reason ?? 'abort')));
+    if (signal.aborted) onAbort();
+    else signal.addEventListener('abort', onAbort, { once: true });
+  });
+  return Promise.race([work, aborted]).finally(() => signal.removeEventListener('abort', onAbort));
 }
 
 /** Copy column buffers into SharedArrayBuffers once, so every worker reads them without a copy. */
