@@ -12,6 +12,7 @@ import { foldRows, stratifiedFolds } from './folds.js';
 import type { Json, Learner, Stage } from '../stages/types.js';
 import { learnerRegistry, stageRegistry } from '../stages/index.js';
 import { stageKey, learnerKey } from './keys.js';
+import { balanceRows, priorCorrect } from '../stages/balance.js';
 
 export interface ContextSpec {
   readonly name: string;
@@ -40,6 +41,8 @@ export interface ContextTask {
   readonly stages: readonly StagePlanItem[];
   readonly learners: readonly LearnerPlanItem[];
   readonly innerFolds: number;
+  /** Downsample non-events inside each learner fit to this event share (null = off). */
+  readonly balance: { readonly ratio: number } | null;
   readonly seed: number;
   readonly dataKey: string;
   readonly cacheDir: string;
@@ -76,6 +79,10 @@ export interface ContextResult {
   readonly featureNames: string[];
   /** Non-numeric columns left unencoded at the end of the chain, so not seen by any learner. */
   readonly dropped: string[];
+  /** With `keepStates`: each stage's resolved input columns, parallel to `states` (the bundle replays them). */
+  readonly stageInputs: string[][];
+  /** With `keepStates`: the columns each learner was given, in order, parallel to `models`. */
+  readonly learnerFeatures: string[][];
 }
 
 interface StageOutput {
@@ -93,6 +100,7 @@ export function runContext(task: ContextTask): ContextResult {
   let upstream = task.dataKey;
   const steps: StepRecord[] = [];
   const states: { kind: string; state: Json }[] = [];
+  const stageInputs: string[][] = [];
 
   // The numeric features as they stand before imputation: for learners that take missing values.
   let beforeImpute: string[] | undefined;
@@ -113,7 +121,10 @@ export function runContext(task: ContextTask): ContextResult {
       cache.put(key, encodeStageOutput(out, ctxRows));
     }
     steps.push({ step: `${stage.kind}@${context.name}`, key, hit: cached !== undefined, seconds: (performance.now() - t0) / 1000 });
-    if (task.keepStates) states.push({ kind: stage.kind, state: out.state });
+    if (task.keepStates) {
+      states.push({ kind: stage.kind, state: out.state });
+      stageInputs.push(inputs);
+    }
     const consumed = new Set(inputs);
     if (stage.replacesInputs) available = available.filter((n) => !consumed.has(n));
     for (const c of out.columns) {
@@ -132,11 +143,12 @@ export function runContext(task: ContextTask): ContextResult {
   const predictions = new Map<string, Float64Array>();
   const learnerKeys = new Map<string, string>();
   const models: { name: string; model: Json }[] = [];
+  const learnerFeatures: string[][] = [];
   for (const item of task.learners) {
     const learner = learnerRegistry.get(item.kind) as Learner<unknown, Json> | undefined;
     if (!learner) throw new Error(`unknown learner kind ${item.kind}`);
     const config = atStep(`learner:${item.name}@${context.name}`, () => learner.resolveConfig(item.config));
-    const key = learnerKey({ kind: learner.kind, version: learner.version, config: item.config, upstream, context, seed: task.seed, name: item.name });
+    const key = learnerKey({ kind: learner.kind, version: learner.version, config: { options: item.config, balance: task.balance }, upstream, context, seed: task.seed, name: item.name });
     const t0 = performance.now();
     const cached = cache.get(key);
     let pred: Float64Array;
@@ -147,17 +159,26 @@ export function runContext(task: ContextTask): ContextResult {
     } else {
       [model, pred] = atStep(`learner:${item.name}@${context.name}`, () => {
         const [X, names] = learner.handlesMissing ? [rawFeatures, rawNames] : [features, available];
-        const m = learner.fit({ features: X, names, rows: context.train, target: task.target, config, rng: createRng(task.seed, 'learner', item.name, context.name) });
-        return [m, learner.predict(m, X, context.apply)] as const;
+        if (!task.balance) {
+          const m = learner.fit({ features: X, names, rows: context.train, target: task.target, config, rng: createRng(task.seed, 'learner', item.name, context.name) });
+          return [m, learner.predict(m, X, context.apply)] as const;
+        }
+        // The fit sees a downsampled sample; its predictions are moved back to the population's base rate.
+        const sample = balanceRows(context.train, task.target, task.balance.ratio, createRng(task.seed, 'balance', item.name, context.name));
+        const m = learner.fit({ features: X, names, rows: sample.rows, target: task.target, config, rng: createRng(task.seed, 'learner', item.name, context.name) });
+        return [m, priorCorrect(learner.predict(m, X, context.apply), sample.tau, sample.ybar)] as const;
       });
       cache.put(key, new Map([['pred.f64', bytesOf(pred)], ['model.json', Buffer.from(JSON.stringify(model))]]));
     }
     steps.push({ step: `learner:${item.name}@${context.name}`, key, hit: cached !== undefined, seconds: (performance.now() - t0) / 1000 });
     predictions.set(item.name, pred);
     learnerKeys.set(item.name, key);
-    if (task.keepStates) models.push({ name: item.name, model });
+    if (task.keepStates) {
+      models.push({ name: item.name, model });
+      learnerFeatures.push(learner.handlesMissing ? rawNames : available);
+    }
   }
-  return { context: context.name, steps, predictions, learnerKeys, states, models, featureNames: available, dropped };
+  return { context: context.name, steps, predictions, learnerKeys, states, models, featureNames: available, dropped, stageInputs, learnerFeatures };
 }
 
 /** Fit one stage in a context, cross-fitting it when it reads the target. Outputs cover the context's rows. */

@@ -5,7 +5,7 @@
 import { performance } from 'node:perf_hooks';
 import { pino, type DestinationStream } from 'pino';
 import type { ResolvedConfig } from './config/types.js';
-import type { Column, Frame } from './frame.js';
+import type { CategoricalColumn, Column, Frame } from './frame.js';
 import { loadFrame } from './io/load.js';
 import { makePlan, type Plan } from './plan.js';
 import { ContextPool } from './pool.js';
@@ -21,6 +21,9 @@ import { stageRegistry } from '../stages/index.js';
 import type { Json, Stage, StageReport } from '../stages/types.js';
 import { RunFolder } from './run-folder.js';
 import { RunInterrupted } from './errors.js';
+import { applyExclusions, type ExclusionReportRow } from '../stages/exclude.js';
+import { PlanError } from './errors.js';
+import { disparityTable, type DisparityTable } from './disparity.js';
 
 export const CODE_VERSION = '0.1.0';
 
@@ -50,6 +53,10 @@ export interface Metrics {
   readonly holdout: Record<string, MetricSet>;
   readonly stack: { readonly weights: Record<string, number>; readonly intercept: number; readonly nonnegative: boolean };
   readonly stages: Record<string, Json>;
+  /** Selection rates by protected group at the budget cut, on the holdout rows (absent in older runs). */
+  readonly disparity?: DisparityTable;
+  /** The same on the development rows, with the stack's out-of-fold scores and OOF cut. */
+  readonly disparity_oof?: DisparityTable;
 }
 
 export interface Manifest {
@@ -60,7 +67,9 @@ export interface Manifest {
   readonly config_file: string;
   readonly config: Json;
   readonly config_digest: string;
-  readonly data: { readonly file: string; readonly digest: string; readonly key: string; readonly rows: number; readonly events: number };
+  /** `rows`/`events` count the rows left after exclusions. */
+  readonly data: { readonly file: string; readonly digest: string; readonly key: string; readonly rows: number; readonly events: number; readonly rows_in_file: number };
+  readonly exclusions: ExclusionReportRow[];
   readonly seed: number;
   readonly split: { readonly folds: number; readonly dev_rows: number; readonly holdout_rows: number; readonly digest: string };
   readonly workers: number;
@@ -99,8 +108,13 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
       columns: config.data.columns,
       missing: config.data.missing,
     });
-    const frame = shareFrame(loaded.frame);
-    const dataKey = hashOf('data', loaded.digest, canonical({ target: config.data.target, positive: config.data.positive ?? null, id: config.data.id ?? null, columns: config.data.columns, missing: config.data.missing }));
+    const exclusions = applyExclusions(loaded.frame, config.exclude);
+    const frame = shareFrame(keepRows(loaded.frame, exclusions.keep));
+    for (const r of exclusions.report) {
+      runLog.info({ exclusion: r }, 'rows excluded');
+      say(`excluded ${r.rows} rows (${r.reason}: ${r.column} ${r.condition})`);
+    }
+    const dataKey = hashOf('data', loaded.digest, canonical({ target: config.data.target, positive: config.data.positive ?? null, id: config.data.id ?? null, columns: config.data.columns, missing: config.data.missing, exclude: config.exclude }));
     const events = countEvents(frame.target);
     runLog.info({ rows: frame.nRows, events, digest: loaded.digest }, 'data loaded');
     say(`${frame.nRows} rows, ${events} events (${((100 * events) / frame.nRows).toFixed(2)}%)`);
@@ -126,6 +140,7 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
             stages: plan.stages,
             learners: plan.learners,
             innerFolds: config.split.innerFolds,
+            balance: config.balance,
             seed: config.seed,
             dataKey,
             cacheDir: opts.cacheDir,
@@ -174,6 +189,8 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
       cache.put(evalKey, new Map([['metrics.json', Buffer.from(JSON.stringify(metrics))]]));
     }
     steps.push({ step: 'evaluate', key: evalKey, hit: cachedEval !== undefined, seconds: (performance.now() - tEval) / 1000 });
+    // Outside the evaluation cache entry: it is one pass over the rows, and entries written before it existed stay valid.
+    metrics = { ...metrics, ...disparityOf(frame, config.evaluate.budget, plan, metrics, blend) };
 
     await folder.writeOof(frame, plan, learnerNames, oofPreds, blend.oof);
     await folder.writeHoldout(frame, plan, learnerNames, holdPreds, blend.holdout);
@@ -188,7 +205,8 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
       config_file: config.file,
       config: configForManifest(config),
       config_digest: hashOf('config', canonical(configForManifest(config))),
-      data: { file: config.data.file, digest: loaded.digest, key: dataKey, rows: frame.nRows, events },
+      data: { file: config.data.file, digest: loaded.digest, key: dataKey, rows: frame.nRows, events, rows_in_file: loaded.frame.nRows },
+      exclusions: exclusions.report,
       seed: config.seed,
       split: { folds: plan.split.folds, dev_rows: plan.split.dev.length, holdout_rows: plan.split.holdout.length, digest: hashOf('split', bytesOf(plan.split.isHoldout), bytesOf(plan.split.devFold)) },
       workers: opts.workers,
@@ -209,6 +227,28 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
   } finally {
     fileLog.end();
   }
+}
+
+/** The frame restricted to the rows `keep` marks (a copy, made once, only when rules excluded rows). */
+function keepRows(frame: Frame, keep: Uint8Array): Frame {
+  let n = 0;
+  for (let i = 0; i < keep.length; i++) n += keep[i];
+  if (n === frame.nRows) return frame;
+  if (n === 0) throw new PlanError('the exclusion rules remove every row', 'check the exclude rules in the config');
+  const rows = new Uint32Array(n);
+  for (let i = 0, j = 0; i < keep.length; i++) if (keep[i]) rows[j++] = i;
+  const pick = <T extends Float64Array | Int32Array | Uint8Array>(a: T): T => {
+    const out = new (a.constructor as new (n: number) => T)(n);
+    for (let j = 0; j < n; j++) out[j] = a[rows[j]];
+    return out;
+  };
+  const columns = new Map<string, Column>();
+  for (const [name, c] of frame.columns) {
+    if (c.type === 'numeric') columns.set(name, { ...c, values: pick(c.values) });
+    else if (c.type === 'date') columns.set(name, { ...c, days: pick(c.days) });
+    else columns.set(name, { ...c, codes: pick(c.codes) });
+  }
+  return { ...frame, nRows: n, columns, target: pick(frame.target), ids: Array.from(rows, (r) => frame.ids[r]) };
 }
 
 /** Rejects with RunInterrupted as soon as `signal` aborts, so the pool can be torn down mid-context. */
@@ -323,6 +363,22 @@ function evaluateAll(config: ResolvedConfig, plan: Plan, names: readonly string[
   const stages: Record<string, Json> = {};
   for (const r of reports) if (r.report.metrics !== undefined) stages[r.kind] = r.report.metrics;
   return { oof: oofM, holdout: holdM, stack: { weights, intercept: blend.model.intercept, nonnegative: blend.model.nonnegative }, stages };
+}
+
+function disparityOf(frame: Frame, budget: number, plan: Plan, metrics: Metrics, blend: BlendResult): Pick<Metrics, 'disparity' | 'disparity_oof'> {
+  const columns: CategoricalColumn[] = [];
+  for (const [name, role] of frame.roles) {
+    const c = frame.columns.get(name);
+    if (role !== 'protected' || !c) continue;
+    if (c.type !== 'categorical') throw new Error(`internal: protected column ${name} was not loaded as categorical`);
+    columns.push(c);
+  }
+  const holdCut = metrics.holdout.stack?.cut;
+  const oofCut = metrics.oof.stack?.cut;
+  return {
+    ...(typeof holdCut === 'number' ? { disparity: disparityTable({ budget, cut: holdCut, columns, rows: plan.split.holdout, scores: blend.holdout, target: frame.target }) } : {}),
+    ...(typeof oofCut === 'number' ? { disparity_oof: disparityTable({ budget, cut: oofCut, columns, rows: plan.split.dev, scores: blend.oof, target: frame.target }) } : {}),
+  };
 }
 
 function describeStages(states: readonly { kind: string; state: Json }[]): { kind: string; report: StageReport }[] {

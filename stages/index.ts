@@ -9,13 +9,14 @@ import { impute } from './impute.js';
 import { treeBins } from './tree-bins.js';
 import { leafZ } from './leaf-z.js';
 import { summaries } from './summaries.js';
+import { transforms } from './transforms.js';
 import { logistic } from './learners/logistic.js';
 
 type AnyStage = Stage<never, never>;
 type AnyLearner = Learner<never, never>;
 
 export const stageRegistry: ReadonlyMap<string, AnyStage> = new Map<string, AnyStage>(
-  ([datesStage, rateEncode, treeBins, leafZ, summaries, impute] as unknown as AnyStage[]).map((s) => [s.kind, s]),
+  ([datesStage, transforms, rateEncode, treeBins, leafZ, summaries, impute] as unknown as AnyStage[]).map((s) => [s.kind, s]),
 );
 
 export const learnerRegistry: ReadonlyMap<string, AnyLearner> = new Map<string, AnyLearner>(

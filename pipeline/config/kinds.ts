@@ -45,7 +45,7 @@ export const stageKinds: ReadonlyMap<string, ObjectSchema> = new Map([
       { nullable: true },
     ),
   ],
-  ['leaf-z', object('Standardise encoded rates into z-scores against the overall rate.', {}, { nullable: true })],
+  ['leaf-z', object('Turn each tree-bins rate into a z-score against the pooled distribution of every column\'s leaf rates (weighted by leaf counts), so columns share one scale.', {}, { nullable: true })],
   [
     'summaries',
     object(
@@ -62,13 +62,13 @@ export const stageKinds: ReadonlyMap<string, ObjectSchema> = new Map([
         columns: optional(columnList('Date columns to expand; default: every date column.')),
         fiscal_start_month: optional(integer('Month (1–12) in which the fiscal year starts.', { min: 1, max: 12 }), 1),
         as_of: optional(
-          string('Reference point for "days since" features: a date column (such as the application date) or a fixed date written YYYY-MM-DD.', {
+          string('A date column holding each row\'s as-of date (e.g. the application date): any other date later than it in the same row is a data error, since it would leak the future.', {
             minLength: 1,
           }),
         ),
         pairs: optional(
           arrayOf(
-            arrayOf(string('A date column name.', { minLength: 1 }), 'Two date columns [later, earlier]; the feature is the gap in days.', {
+            arrayOf(string('A date column name.', { minLength: 1 }), 'Two date columns [from, to]; the feature is to − from in days.', {
               minItems: 2,
               maxItems: 2,
             }),
@@ -76,6 +76,19 @@ export const stageKinds: ReadonlyMap<string, ObjectSchema> = new Map([
           ),
         ),
         holiday_window_days: optional(integer('Days either side of a public holiday that count as "near a holiday".', { min: 0 }), 7),
+      },
+      { nullable: true },
+    ),
+  ],
+  [
+    'transforms',
+    object(
+      'For each numeric column pick the shape (identity, log, sqrt, square, reciprocal, rank_logit) with the best univariate logistic log-likelihood on the fit rows (cross-fitted).',
+      {
+        columns: optional(columnList('Numeric columns to transform; default: every numeric feature.')),
+        candidates: optional(
+          arrayOf(oneOfValues('A candidate shape.', ['identity', 'log', 'sqrt', 'square', 'reciprocal', 'rank_logit']), 'Shapes to try; ties go to the earlier one in the order identity, log, sqrt, square, reciprocal, rank_logit.', { minItems: 1 }),
+        ),
       },
       { nullable: true },
     ),

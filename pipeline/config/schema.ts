@@ -27,6 +27,8 @@ export const RESERVED_LEARNER_NAMES: readonly string[] = ['stack', 'id', 'fold',
 
 export const COLUMN_DECLARATIONS = ['numeric', 'categorical', 'date', 'ignore', 'protected'] as const;
 
+export const PROMOTE_METRICS = ['capture', 'auc', 'pauc'] as const;
+
 const nonEmpty = (description: string) => string(description, { minLength: 1 });
 const share = (description: string) => number(description, { min: 0, max: 1, exclusiveMin: true, exclusiveMax: true });
 
@@ -85,6 +87,26 @@ export const configSchema = object('A foldstack pipeline: the data, how rows are
       { keyNoun: 'learner name', keyPattern: NAME_PATTERN, keyPatternText: NAME_TEXT, reservedKeys: RESERVED_LEARNER_NAMES, minEntries: 1 },
     ),
   ),
+  exclude: optional(
+    arrayOf(
+      object('A rule removing rows before the split: rows for which its one condition holds are excluded.', {
+        reason: required(nonEmpty('Why these rows are excluded; shown with the rule\'s row count in the manifest and report.')),
+        column: required(nonEmpty('The column the condition reads.')),
+        in: optional(arrayOf(string('A category level.', { acceptNumber: true }), 'Exclude rows whose level is one of these.')),
+        not_in: optional(arrayOf(string('A category level.', { acceptNumber: true }), 'Exclude rows whose level is none of these.')),
+        below: optional(string('Exclude rows whose value is strictly below this number or YYYY-MM-DD date.', { minLength: 1, acceptNumber: true })),
+        above: optional(string('Exclude rows whose value is strictly above this number or YYYY-MM-DD date.', { minLength: 1, acceptNumber: true })),
+        missing: optional(boolean('Exclude rows where the column is missing (write `missing: true`).')),
+      }),
+      'Row exclusions applied once before the split, in order; each rule needs exactly one condition (in, not_in, below, above or missing).',
+    ),
+    [],
+  ),
+  balance: optional(
+    object('Class balancing: inside each learner fit only, keep every event and downsample non-events; predictions are prior-corrected back to the population rate (King & Zeng 2001). Metrics always use untouched rows.', {
+      ratio: required(share('Event share to reach in each fit sample, e.g. 0.5.')),
+    }),
+  ),
   stack: optional(
     object('The logistic blend of the base learners\' out-of-fold predictions.', {
       nonnegative: optional(boolean('Constrain blend weights to be ≥ 0.'), true),
@@ -97,6 +119,26 @@ export const configSchema = object('A foldstack pipeline: the data, how rows are
         arrayOf(share('A review budget share.'), 'Extra review budgets to report; `budget` is always included.'),
       ),
     }),
+  ),
+  promote: optional(
+    object(
+      'When `foldstack run --promote-if-better` makes a run the champion of this config name. Only a paired comparison (same data, split and holdout rows) can promote; otherwise use `foldstack promote`.',
+      {
+        metric: optional(
+          oneOfValues('Holdout metric of the stack that decides: capture at the budget, AUC, or partial AUC up to the budget.', PROMOTE_METRICS),
+          'capture',
+        ),
+        min_gain: optional(number('Smallest gain (challenger minus champion) that can promote.', { min: 0 }), 0.005),
+        max_p: optional(
+          number(
+            'Largest p-value that can promote: the two-sided DeLong p for auc; for capture and pauc a one-sided paired stratified bootstrap test (1,000 replicates).',
+            { min: 0, max: 1, exclusiveMin: true },
+          ),
+          0.05,
+        ),
+      },
+      { nullable: true },
+    ),
   ),
 });
 

@@ -1,4 +1,5 @@
 /** The typed result of loading a config: what every other part of foldstack reads. */
+import type { ExclusionRule } from '../../stages/exclude.js';
 
 export type ColumnDecl = 'numeric' | 'categorical' | 'date' | 'ignore' | 'protected';
 
@@ -42,7 +43,18 @@ export interface ResolvedConfig {
   features: Map<string, Record<string, unknown>>;
   /** Learner name → kind and options, in file order. */
   learners: Map<string, LearnerConfig>;
+  /** Row exclusions, validated and with dates as epoch days (see stages/exclude.ts). */
+  exclude: ExclusionRule[];
+  /** Downsampling inside each learner fit; null = off. */
+  balance: { ratio: number } | null;
   stack: { nonnegative: boolean };
   /** `budgets` is ascending, distinct, and always contains `budget`. */
   evaluate: { budget: number; budgets: number[] };
+  promote: PromoteConfig;
+}
+
+export interface PromoteConfig {
+  metric: 'capture' | 'auc' | 'pauc';
+  minGain: number;
+  maxP: number;
 }
