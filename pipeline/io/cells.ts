@@ -14,10 +14,10 @@ const LOWER_E = 101;
 const UPPER_E = 69;
 const COLON = 58;
 
-/** Exact powers of ten: every 10^k with k ≤ 22 is a double without rounding. */
-const POW10 = Array.from({ length: 23 }, (_, k) => 10 ** k);
 /** Digits that always fit a double's 53-bit integer mantissa exactly. */
 const MAX_FAST_DIGITS = 15;
+/** Powers of ten up to 10^15: all exact doubles (every 10^k with k ≤ 22 is). */
+const POW10 = Array.from({ length: MAX_FAST_DIGITS + 1 }, (_, k) => 10 ** k);
 
 /**
  * The value of a plain decimal literal (`12`, `-3.5`, `.5`, `1e-3`, `+7`), NaN for anything else.
@@ -31,16 +31,20 @@ const MAX_FAST_DIGITS = 15;
  * (`1e400`) returns ±Infinity so callers can report it.
  */
 export function parseDecimal(s: string): number {
-  const n = s.length;
-  if (n === 0) return NaN;
-  let i = 0;
-  let c = s.charCodeAt(0);
+  return parseDecimalRange(s, 0, s.length);
+}
+
+/** `parseDecimal(s.slice(start, end))` without making the slice in the common case. */
+export function parseDecimalRange(s: string, start: number, end: number): number {
+  if (start >= end) return NaN;
+  let i = start;
+  let c = s.charCodeAt(i);
   const negative = c === MINUS;
-  if (negative || c === PLUS) i = 1;
+  if (negative || c === PLUS) i++;
   let mantissa = 0;
   let digits = 0;
   let fraction = -1;
-  for (; i < n; i++) {
+  for (; i < end; i++) {
     c = s.charCodeAt(i);
     if (c >= DIGIT_0 && c <= DIGIT_9) {
       mantissa = mantissa * 10 + (c - DIGIT_0);
@@ -52,17 +56,17 @@ export function parseDecimal(s: string): number {
       break;
     }
   }
-  if (i === n && digits > 0 && digits <= MAX_FAST_DIGITS) {
+  if (i === end && digits > 0 && digits <= MAX_FAST_DIGITS) {
     const value = fraction > 0 ? mantissa / POW10[fraction] : mantissa;
     return negative ? -value : value;
   }
-  for (let j = 0; j < n; j++) {
+  for (let j = start; j < end; j++) {
     c = s.charCodeAt(j);
     if ((c < DIGIT_0 || c > DIGIT_9) && c !== DOT && c !== MINUS && c !== PLUS && c !== LOWER_E && c !== UPPER_E) {
       return NaN;
     }
   }
-  return Number(s);
+  return Number(s.slice(start, end));
 }
 
 const NON_FINITE_TOKENS = new Set(['nan', 'inf', 'infinity']);

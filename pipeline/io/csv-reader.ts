@@ -3,8 +3,14 @@
  *
  * The file is read in chunks (never as one string), decoded as UTF-8 and parsed by a small state
  * machine that carries a partial field and record across chunk boundaries. The sha256 of the raw
- * bytes is computed on the same pass: after a `CsvSource` has been iterated to the end,
- * `digest()` returns it as lowercase hex.
+ * bytes is computed on the same pass.
+ *
+ * Three ways in, fastest first:
+ * - `scanCsv(path, sink)` hands each record to a `CsvSink` as ranges of text (no string per field)
+ *   and resolves to the sha256 hex; the loader uses this.
+ * - `new CsvSource(path).batches()` yields the `CsvRecord`s of each chunk as one array, then
+ *   `digest()` returns the sha256 hex.
+ * - `readCsv(path)` / `CsvSource.records()` yield one record at a time (one await per record).
  *
  * Accepted: comma delimiter; fields optionally wholly enclosed in double quotes, with `""` for a
  * quote inside; quoted fields may hold commas and line breaks. Records end at LF, CRLF or a lone
@@ -55,12 +61,56 @@ const QUOTED = 2;
 /** Just saw a quote inside a quoted field: either the first half of `""` or the closing quote. */
 const QUOTE_IN_QUOTED = 3;
 
+/**
+ * One record as ranges of text: field k is `texts[k].slice(starts[k], ends[k])`, where `texts[k]`
+ * is the decoded chunk the field lies in (or a string assembled for a field that spans chunks or
+ * holds `""`). A consumer that parses numbers straight from the ranges makes no string per field.
+ * The object and its arrays are reused: valid only during the `record` call.
+ */
+export interface CsvRow {
+  /** 1-based physical line where the record starts. */
+  readonly line: number;
+  readonly count: number;
+  readonly texts: readonly string[];
+  readonly starts: Int32Array;
+  readonly ends: Int32Array;
+}
+
+/** Receives each record as the parser completes it; whatever it throws stops the read. */
+export interface CsvSink {
+  record(row: CsvRow): void;
+}
+
+/** The parser's reusable `CsvRow`, grown when a record has more fields than any before. */
+class RowBuffer implements CsvRow {
+  line = 1;
+  count = 0;
+  texts: string[] = [];
+  starts = new Int32Array(64);
+  ends = new Int32Array(64);
+
+  push(text: string, start: number, end: number): void {
+    const k = this.count++;
+    if (k === this.starts.length) {
+      const starts = new Int32Array(k * 2);
+      const ends = new Int32Array(k * 2);
+      starts.set(this.starts);
+      ends.set(this.ends);
+      this.starts = starts;
+      this.ends = ends;
+    }
+    this.texts[k] = text;
+    this.starts[k] = start;
+    this.ends[k] = end;
+  }
+}
+
 /** The parsing state machine, fed decoded text chunk by chunk. */
 class CsvParser {
   private state = FIELD_START;
   /** Text of the current field carried over from earlier chunks (and unescaped quoted text). */
   private pending = '';
-  private fields: string[] = [];
+  private readonly row = new RowBuffer();
   /** True once the current record has a delimiter or a quote, so it is not an empty line. */
   private inRecord = false;
   /** A record ended on CR at the end of a chunk: a LF starting the next chunk belongs to it. */
@@ -75,9 +125,10 @@ class CsvParser {
   constructor(
     private readonly file: string,
     private readonly maxFieldChars: number,
+    private readonly sink: CsvSink,
   ) {}
 
-  feed(s: string, out: CsvRecord[]): void {
+  feed(s: string): void {
     const n = s.length;
     let i = 0;
     if (this.skipLF) {
@@ -117,7 +168,7 @@ class CsvParser {
         } else {
           if (this.inRecord || i > start || this.pending !== '') {
             this.pushField(s, start, i);
-            this.endRecord(out);
+            this.endRecord();
           }
           i = this.lineBreak(s, i, c);
           state = FIELD_START;
@@ -164,13 +215,11 @@ class CsvParser {
         continue;
       }
       if (c === COMMA) {
-        this.fields.push(this.pending);
-        this.pending = '';
+        this.pushPending();
         i++;
       } else if (c === LF || c === CR) {
-        this.fields.push(this.pending);
-        this.pending = '';
-        this.endRecord(out);
+        this.pushPending();
+        this.endRecord();
         i = this.lineBreak(s, i, c);
       } else {
         throw this.stray('a comma or the end of the line after a closing quote', quoteText(s.slice(i, i + 10)));
@@ -183,33 +232,38 @@ class CsvParser {
   }
 
   /** End of input: close the last record, or report a quote that never closed. */
-  finish(out: CsvRecord[]): void {
+  finish(): void {
     if (this.state === QUOTED) {
       throw new CsvError({
         file: this.file,
         line: this.quoteLine,
-        column: this.fields.length + 1,
+        column: this.row.count + 1,
         expected: `a closing quote for the field opened on line ${this.quoteLine}`,
         found: 'the end of the file',
         hint: `look for a stray " on line ${this.quoteLine}; a quote inside a quoted field must be doubled ("")`,
       });
     }
-    if (this.state === QUOTE_IN_QUOTED) {
-      this.fields.push(this.pending);
-      this.endRecord(out);
-    } else if (this.state === UNQUOTED || this.inRecord) {
-      this.fields.push(this.pending);
-      this.endRecord(out);
+    if (this.state === QUOTE_IN_QUOTED || this.state === UNQUOTED || this.inRecord) {
+      this.pushPending();
+      this.endRecord();
     }
-    this.pending = '';
     this.state = FIELD_START;
   }
 
   private pushField(s: string, start: number, end: number): void {
-    const text = this.pending === '' ? s.slice(start, end) : this.pending + s.slice(start, end);
-    if (text.length > this.maxFieldChars) throw this.tooLarge();
-    this.fields.push(text);
+    if (this.pending === '') {
+      if (end - start > this.maxFieldChars) throw this.tooLarge();
+      this.row.push(s, start, end);
+      return;
+    }
+    this.appendPending(s.slice(start, end));
+    this.pushPending();
+  }
+
+  private pushPending(): void {
+    const text = this.pending;
     this.pending = '';
+    this.row.push(text, 0, text.length);
   }
 
   private appendPending(text: string): void {
@@ -217,9 +271,11 @@ class CsvParser {
     if (this.pending.length > this.maxFieldChars) throw this.tooLarge();
   }
 
-  private endRecord(out: CsvRecord[]): void {
-    out.push({ fields: this.fields, line: this.recordLine });
-    this.fields = [];
+  private endRecord(): void {
+    const row = this.row;
+    row.line = this.recordLine;
+    this.sink.record(row);
+    row.count = 0;
     this.inRecord = false;
     this.recordCount++;
   }
@@ -238,7 +294,7 @@ class CsvParser {
     return new CsvError({
       file: this.file,
       line: this.line,
-      column: this.fields.length + 1,
+      column: this.row.count + 1,
       expected,
       found,
       hint: 'enclose the whole field in double quotes and double every quote inside it: "say ""hi"""',
@@ -249,7 +305,7 @@ class CsvParser {
     return new CsvError({
       file: this.file,
       line: this.recordLine,
-      column: this.fields.length + 1,
+      column: this.row.count + 1,
       expected: `a field of at most ${this.maxFieldChars} characters`,
       found: 'a longer one',
       hint: 'this usually means a quote that never closes, or a file that is not CSV',
@@ -258,7 +314,7 @@ class CsvParser {
 }
 
 /** Rejects header names that are empty or repeated: columns are looked up by name. */
-function checkHeader(file: string, header: CsvRecord): void {
+export function checkHeader(file: string, header: CsvRecord): void {
   const seen = new Map<string, number>();
   for (let i = 0; i < header.fields.length; i++) {
     const name = header.fields[i];
@@ -294,6 +350,121 @@ function lineOfByte(chunk: Buffer, at: number, firstLine: number): number {
 }
 
 /**
+ * Streams the file through a parser that reports to `sink`, yielding after each chunk; returns the
+ * sha256 hex of the bytes once the file has been read to the end.
+ */
+async function* scan(file: string, sink: CsvSink, options: CsvReadOptions): AsyncGenerator<void, string> {
+  const parser = new CsvParser(file, options.maxFieldChars ?? DEFAULT_MAX_FIELD_CHARS, sink);
+  const hash = createHash('sha256');
+  const decoder = new StringDecoder('utf8');
+  const stream = createReadStream(file, { highWaterMark: options.highWaterMark ?? DEFAULT_HIGH_WATER_MARK });
+  let bytes = 0;
+  let bomChecked = false;
+  // The last two bytes of the previous chunk: a real U+FFFD may straddle a chunk boundary.
+  let tail: Buffer = Buffer.alloc(0);
+  try {
+    for await (const chunk of stream as AsyncIterable<Buffer>) {
+      const nul = chunk.indexOf(0);
+      if (nul !== -1) {
+        throw new CsvError({
+          file,
+          line: lineOfByte(chunk, nul, parser.line),
+          column: 0,
+          expected: 'text',
+          found: 'a NUL byte: the file looks binary (or is UTF-16)',
+          hint: 'pass a CSV file saved as UTF-8 text',
+        });
+      }
+      hash.update(chunk);
+      bytes += chunk.length;
+      let s = decoder.write(chunk);
+      if (
+        s.includes(REPLACEMENT_CHAR) &&
+        !chunk.includes(REPLACEMENT_BYTES) &&
+        !Buffer.concat([tail, chunk.subarray(0, 2)]).includes(REPLACEMENT_BYTES)
+      ) {
+        throw new CsvError({
+          file,
+          line: parser.line,
+          column: 0,
+          expected: 'UTF-8 text',
+          found: 'bytes that are not valid UTF-8',
+          hint: 're-save the file as UTF-8 (it may be Latin-1 / Windows-1252)',
+        });
+      }
+      tail = chunk.subarray(Math.max(0, chunk.length - 2));
+      if (!bomChecked && s.length > 0) {
+        bomChecked = true;
+        if (s.charCodeAt(0) === BOM) s = s.slice(1);
+      }
+      parser.feed(s);
+      yield;
+    }
+  } catch (err) {
+    if (err instanceof CsvError) throw err;
+    const code = (err as NodeJS.ErrnoException).code;
+    if (code === undefined) throw err;
+    throw new CsvError({
+      file,
+      line: 0,
+      column: 0,
+      expected: 'a readable file',
+      found: `${code} (${(err as Error).message})`,
+      hint: `check the path; relative paths are resolved from ${process.cwd()}`,
+    });
+  } finally {
+    stream.destroy();
+  }
+  const rest = decoder.end();
+  if (rest.includes(REPLACEMENT_CHAR)) {
+    throw new CsvError({
+      file,
+      line: parser.line,
+      column: 0,
+      expected: 'UTF-8 text',
+      found: 'a multi-byte character cut off at the end of the file',
+      hint: 're-save the file as UTF-8; it may have been truncated',
+    });
+  }
+  parser.feed(bomChecked || rest.charCodeAt(0) !== BOM ? rest : rest.slice(1));
+  parser.finish();
+  if (parser.recordCount === 0) {
+    throw new CsvError({
+      file,
+      line: 0,
+      column: 0,
+      expected: 'a header line and data rows',
+      found: bytes === 0 ? 'an empty file (0 bytes)' : 'no records (only blank lines)',
+      hint: 'check that the path points at the intended data file',
+    });
+  }
+  return hash.digest('hex');
+}
+
+/**
+ * Reads the whole file into `sink` and returns the sha256 hex of its bytes. The header is the
+ * first record like any other: the sink checks it (see `checkHeader`).
+ */
+export async function scanCsv(path: string, sink: CsvSink, options: CsvReadOptions = {}): Promise<string> {
+  const it = scan(path, sink, options);
+  for (;;) {
+    const step = await it.next();
+    if (step.done === true) return step.value;
+  }
+}
+
+/** Turns rows into `CsvRecord`s. */
+class RecordCollector implements CsvSink {
+  out: CsvRecord[] = [];
+
+  record(row: CsvRow): void {
+    const fields = new Array<string>(row.count);
+    for (let k = 0; k < row.count; k++) fields[k] = row.texts[k].slice(row.starts[k], row.ends[k]);
+    this.out.push({ fields, line: row.line });
+  }
+}
+
+/**
  * One pass over a CSV file. Iterate `records()` (or `batches()`, which yields the records parsed
  * from each chunk together and costs one await per chunk instead of per record); afterwards
  * `digest()` is the sha256 of the file's bytes.
@@ -325,98 +496,30 @@ export class CsvSource {
   }
 
   async *batches(): AsyncGenerator<CsvRecord[]> {
-    const file = this.path;
-    const parser = new CsvParser(file, this.options.maxFieldChars ?? DEFAULT_MAX_FIELD_CHARS);
-    const checkFirst = this.options.header !== false;
-    const hash = createHash('sha256');
-    const decoder = new StringDecoder('utf8');
-    const stream = createReadStream(file, { highWaterMark: this.options.highWaterMark ?? DEFAULT_HIGH_WATER_MARK });
-    let bytes = 0;
-    let bomChecked = false;
-    // The last two bytes of the previous chunk: a real U+FFFD may straddle a chunk boundary.
-    let tail: Buffer = Buffer.alloc(0);
-    let out: CsvRecord[] = [];
-    const emit = (): CsvRecord[] => {
-      if (checkFirst && parser.recordCount === out.length) checkHeader(file, out[0]);
-      const batch = out;
-      out = [];
-      return batch;
-    };
+    const collector = new RecordCollector();
+    let headerPending = this.options.header !== false;
+    const it = scan(this.path, collector, this.options);
     try {
-      for await (const chunk of stream as AsyncIterable<Buffer>) {
-        const nul = chunk.indexOf(0);
-        if (nul !== -1) {
-          throw new CsvError({
-            file,
-            line: lineOfByte(chunk, nul, parser.line),
-            column: 0,
-            expected: 'text',
-            found: 'a NUL byte: the file looks binary (or is UTF-16)',
-            hint: 'pass a CSV file saved as UTF-8 text',
-          });
+      for (;;) {
+        const step = await it.next();
+        const batch = collector.out;
+        if (batch.length > 0) {
+          if (headerPending) {
+            checkHeader(this.path, batch[0]);
+            headerPending = false;
+          }
+          collector.out = [];
+          yield batch;
         }
-        hash.update(chunk);
-        bytes += chunk.length;
-        let s = decoder.write(chunk);
-        if (s.includes(REPLACEMENT_CHAR) && !chunk.includes(REPLACEMENT_BYTES) &&
-            !Buffer.concat([tail, chunk.subarray(0, 2)]).includes(REPLACEMENT_BYTES)) {
-          throw new CsvError({
-            file,
-            line: parser.line,
-            column: 0,
-            expected: 'UTF-8 text',
-            found: 'bytes that are not valid UTF-8',
-            hint: 're-save the file as UTF-8 (it may be Latin-1 / Windows-1252)',
-          });
+        if (step.done === true) {
+          this.hex = step.value;
+          return;
         }
-        tail = chunk.subarray(Math.max(0, chunk.length - 2));
-        if (!bomChecked && s.length > 0) {
-          bomChecked = true;
-          if (s.charCodeAt(0) === BOM) s = s.slice(1);
-        }
-        parser.feed(s, out);
-        if (out.length > 0) yield emit();
       }
-    } catch (err) {
-      if (err instanceof CsvError) throw err;
-      const code = (err as NodeJS.ErrnoException).code;
-      if (code === undefined) throw err;
-      throw new CsvError({
-        file,
-        line: 0,
-        column: 0,
-        expected: 'a readable file',
-        found: `${code} (${(err as Error).message})`,
-        hint: `check the path; relative paths are resolved from ${process.cwd()}`,
-      });
     } finally {
-      stream.destroy();
+      // A consumer that stops early must still close the file.
+      await it.return('');
     }
-    const rest = decoder.end();
-    if (rest.includes(REPLACEMENT_CHAR)) {
-      throw new CsvError({
-        file,
-        line: parser.line,
-        column: 0,
-        expected: 'UTF-8 text',
-        found: 'a multi-byte character cut off at the end of the file',
-        hint: 're-save the file as UTF-8; it may have been truncated',
-      });
-    }
-    parser.feed(bomChecked || rest.charCodeAt(0) !== BOM ? rest : rest.slice(1), out);
-    parser.finish(out);
-    if (parser.recordCount === 0) {
-      throw new CsvError({
-        file,
-        line: 0,
-        column: 0,
-        expected: 'a header line and data rows',
-        found: bytes === 0 ? 'an empty file (0 bytes)' : 'no records (only blank lines)',
-        hint: 'check that the path points at the intended data file',
-      });
-    }
-    if (out.length > 0) yield emit();
-    this.hex = hash.digest('hex');
   }
 }
 
