@@ -20,6 +20,7 @@ import { foldRows } from './folds.js';
 import { stageRegistry } from '../stages/index.js';
 import type { Json, Stage, StageReport } from '../stages/types.js';
 import { RunFolder } from './run-folder.js';
+import { REPORT_FILE, writeReport } from './report/build.js';
 import { RunInterrupted } from './errors.js';
 import { applyExclusions, type ExclusionReportRow } from '../stages/exclude.js';
 import { PlanError } from './errors.js';
@@ -216,6 +217,8 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
       complete: true,
     };
     folder.writeJson('manifest.json', manifest);
+    // Built from the folder's own files, so `foldstack report` can rebuild it byte for byte later.
+    await writeReport(folder.path('.'), folder.path(REPORT_FILE));
     runLog.info({ seconds: manifest.seconds }, 'run complete');
     fileLog.flushSync();
     const runDir = folder.finish();

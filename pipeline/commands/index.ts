@@ -3,5 +3,6 @@ import type { Command } from './command.js';
 import { runCommand } from './run.js';
 import { checkCommand } from './check.js';
 import { schemaCommand } from './schema.js';
+import { reportCommand } from './report.js';
 
-export const commands: readonly Command[] = [runCommand, checkCommand, schemaCommand];
+export const commands: readonly Command[] = [runCommand, checkCommand, schemaCommand, reportCommand];
