@@ -5,7 +5,7 @@
  * not a terminal. Every failure is one line plus a hint, and a documented exit code.
  */
 import { parseArgs } from 'node:util';
-import { ConfigError, formatConfigError } from './config/errors.js';
+import { ConfigError } from './config/errors.js';
 import { EXIT, FoldstackError, UsageError } from './errors.js';
 import { commands } from './commands/index.js';
 import { CODE_VERSION } from './runner.js';
@@ -55,20 +55,30 @@ function report(err: unknown, debug: boolean): number {
   const stack = (e: Error) => {
     if (debug) process.stderr.write(String(e.stack) + '\n');
   };
+  // Always exactly two lines (cron mails and log scrapers rely on it): the first line of the message, then a hint.
+  const twoLines = (message: string, hint: string) => process.stderr.write(`error: ${firstLine(message)}\nhint: ${firstLine(hint)}\n`);
   if (err instanceof ConfigError) {
-    process.stderr.write(formatConfigError(err) + '\n');
+    twoLines(err.message, err.hint === '' ? 'foldstack schema prints every key the config accepts' : err.hint);
     stack(err);
     return EXIT.config;
   }
   if (err instanceof FoldstackError) {
-    process.stderr.write(`error: ${err.message}\nhint: ${err.hint}\n`);
+    twoLines(err.message, err.hint);
     stack(err);
     return err.exitCode;
   }
   const e = err instanceof Error ? err : new Error(String(err));
-  process.stderr.write(`error: ${e.message.split('\n')[0]}\nhint: re-run with --debug for the stack trace\n`);
+  const code = (e as NodeJS.ErrnoException).code;
+  twoLines(e.message, code !== undefined && FILESYSTEM_CODES.has(code) ? 'check that the runs and cache folders exist as folders, are writable, and that the disk has space' : 're-run with --debug for the stack trace');
   stack(e);
   return EXIT.runFailure;
+}
+
+/** Errors from the environment rather than from foldstack: the hint points at the folders, not at a bug. */
+const FILESYSTEM_CODES = new Set(['ENOTDIR', 'EACCES', 'EPERM', 'EROFS', 'ENOSPC', 'EDQUOT', 'EISDIR', 'ENOENT', 'EEXIST', 'EMFILE']);
+
+function firstLine(s: string): string {
+  return s.split(/\r?\n/, 1)[0];
 }
 
 const argv = process.argv.slice(2);

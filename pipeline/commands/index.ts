@@ -3,6 +3,8 @@ import type { Command } from './command.js';
 import { runCommand } from './run.js';
 import { checkCommand } from './check.js';
 import { schemaCommand } from './schema.js';
+import { scheduleCommand } from './schedule.js';
+import { pruneCommand } from './prune.js';
 import { reportCommand } from './report.js';
 
-export const commands: readonly Command[] = [runCommand, checkCommand, schemaCommand, reportCommand];
+export const commands: readonly Command[] = [runCommand, checkCommand, schemaCommand, reportCommand, scheduleCommand, pruneCommand];

@@ -1,8 +1,9 @@
 import { resolve } from 'node:path';
 import { loadConfig } from '../config/load.js';
-import { EXIT, UsageError } from '../errors.js';
+import { EXIT, EXIT_MEANINGS, UsageError } from '../errors.js';
 import { defaultWorkers } from '../pool.js';
-import { runPipeline } from '../runner.js';
+import { runUnderLock } from '../ops/locked-run.js';
+import { abortOnSignals } from '../ops/signals.js';
 import { onePositional, stringOption } from './args.js';
 import type { Command } from './command.js';
 
@@ -21,20 +22,31 @@ Options:
                      any N gives byte-identical results
   --runs-dir DIR     where run folders go (default: ./runs)
   --cache-dir DIR    the stage cache (default: ./.foldstack/cache)
-  --debug            print stack traces on failure`,
-  options: { workers: { type: 'string' }, 'runs-dir': { type: 'string' }, 'cache-dir': { type: 'string' } },
+  --as-of DATE       the business date this run stands for (YYYY-MM-DD), kept in manifest.json
+  --debug            print stack traces on failure
+
+Only one run per config name at a time: the lock is runs/.locks/<name>.lock. A lock left by a
+process that no longer exists on this host is taken over (with a warning). SIGINT/SIGTERM stop
+the run, remove its partial folder and release the lock.
+
+Exit codes:
+${Object.entries(EXIT_MEANINGS).map(([k, v]) => `  ${String(EXIT[k as keyof typeof EXIT]).padStart(3)}  ${v}`).join('\n')}`,
+  options: { workers: { type: 'string' }, 'runs-dir': { type: 'string' }, 'cache-dir': { type: 'string' }, 'as-of': { type: 'string' } },
   async run({ values, positionals }) {
     const config = await loadConfig(onePositional(positionals, 'CONFIG', 'run'));
     const workers = values.workers === undefined ? defaultWorkers() : parseWorkers(String(values.workers));
     const tty = process.stderr.isTTY === true;
     const started = Date.now();
-    const outcome = await runPipeline(config, {
+    const asOf = values['as-of'] === undefined ? undefined : parseAsOf(String(values['as-of']));
+    const outcome = await abortOnSignals((signal) => runUnderLock(config, {
       workers,
+      signal,
+      asOf,
       runsDir: resolve(stringOption(values['runs-dir'], 'runs')),
       cacheDir: resolve(stringOption(values['cache-dir'], '.foldstack/cache')),
       logStream: process.stdout.isTTY ? undefined : process.stdout,
       progress: tty ? (line) => process.stderr.write(`[${((Date.now() - started) / 1000).toFixed(1)}s] ${line}\n`) : undefined,
-    });
+    }, (line) => process.stderr.write(`warning: ${line}\n`)));
     const h = outcome.metrics.holdout.stack;
     const steps = outcome.manifest.steps;
     const hits = steps.filter((s) => s.hit).length;
@@ -46,6 +58,13 @@ Options:
 
 function fmt(x: number | null | undefined): string {
   return typeof x === 'number' ? x.toFixed(4) : 'n/a';
+}
+
+function parseAsOf(s: string): string {
+  const m = /^(\d{4})-(\d{2})-(\d{2})$/.exec(s);
+  const exists = m !== null && new Date(Date.UTC(Number(m[1]), Number(m[2]) - 1, Number(m[3]))).toISOString().slice(0, 10) === s;
+  if (!exists) throw new UsageError(`--as-of must be a calendar date written YYYY-MM-DD, got "${s}"`, 'e.g. --as-of 2024-03-31');
+  return s;
 }
 
 function parseWorkers(s: string): number {
