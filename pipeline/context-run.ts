@@ -83,6 +83,8 @@ export interface ContextResult {
   readonly stageInputs: string[][];
   /** With `keepStates`: the columns each learner was given, in order, parallel to `models`. */
   readonly learnerFeatures: string[][];
+  /** With `keepStates`: per learner, the balance sample's (tau, ybar) its predictions were corrected with, or null. */
+  readonly learnerPriors: ({ tau: number; ybar: number } | null)[];
 }
 
 interface StageOutput {
@@ -144,6 +146,7 @@ export function runContext(task: ContextTask): ContextResult {
   const learnerKeys = new Map<string, string>();
   const models: { name: string; model: Json }[] = [];
   const learnerFeatures: string[][] = [];
+  const learnerPriors: ({ tau: number; ybar: number } | null)[] = [];
   for (const item of task.learners) {
     const learner = learnerRegistry.get(item.kind) as Learner<unknown, Json> | undefined;
     if (!learner) throw new Error(`unknown learner kind ${item.kind}`);
@@ -176,9 +179,12 @@ export function runContext(task: ContextTask): ContextResult {
     if (task.keepStates) {
       models.push({ name: item.name, model });
       learnerFeatures.push(learner.handlesMissing ? rawNames : available);
+      // Redrawn rather than cached: the draw is seeded, so it is the sample the fit used (a cache hit has no sample).
+      const sample = task.balance ? balanceRows(context.train, task.target, task.balance.ratio, createRng(task.seed, 'balance', item.name, context.name)) : undefined;
+      learnerPriors.push(sample ? { tau: sample.tau, ybar: sample.ybar } : null);
     }
   }
-  return { context: context.name, steps, predictions, learnerKeys, states, models, featureNames: available, dropped, stageInputs, learnerFeatures };
+  return { context: context.name, steps, predictions, learnerKeys, states, models, featureNames: available, dropped, stageInputs, learnerFeatures, learnerPriors };
 }
 
 /** Fit one stage in a context, cross-fitting it when it reads the target. Outputs cover the context's rows. */

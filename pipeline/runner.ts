@@ -21,6 +21,7 @@ import { stageRegistry } from '../stages/index.js';
 import type { Json, Stage, StageReport } from '../stages/types.js';
 import { RunFolder } from './run-folder.js';
 import { REPORT_FILE, writeReport } from './report/build.js';
+import { bundleOfRun } from './bundle/build.js';
 import { RunInterrupted } from './errors.js';
 import { applyExclusions, type ExclusionReportRow } from '../stages/exclude.js';
 import { PlanError } from './errors.js';
@@ -198,6 +199,14 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
     for (const r of stageReports) for (const [name, table] of Object.entries(r.report.tables ?? {})) await folder.writeTable(name, table);
     checkpoint();
     folder.writeJson('metrics.json', metrics);
+    const cut = metrics.holdout.stack.cut;
+    if (cut === null) {
+      runLog.warn('the holdout stack has no decision cut, so no bundle.json was written');
+      say('warning: the holdout stack has no decision cut, so no bundle.json was written');
+    } else {
+      const configDigest = hashOf('config', canonical(configForManifest(config)));
+      folder.writeJson('bundle.json', bundleOfRun({ config, codeVersion: CODE_VERSION, configDigest, frame, plan, final, stack: blend.model, cut }));
+    }
     const manifest: Manifest = {
       format: 1,
       name: config.name,

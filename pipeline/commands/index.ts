@@ -6,5 +6,6 @@ import { schemaCommand } from './schema.js';
 import { scheduleCommand } from './schedule.js';
 import { pruneCommand } from './prune.js';
 import { reportCommand } from './report.js';
+import { scoreCommand } from './score.js';
 
-export const commands: readonly Command[] = [runCommand, checkCommand, schemaCommand, reportCommand, scheduleCommand, pruneCommand];
+export const commands: readonly Command[] = [runCommand, checkCommand, schemaCommand, scoreCommand, reportCommand, scheduleCommand, pruneCommand];
