@@ -4,6 +4,9 @@ import { EXIT, EXIT_MEANINGS, UsageError } from '../errors.js';
 import { defaultWorkers } from '../pool.js';
 import { runUnderLock } from '../ops/locked-run.js';
 import { abortOnSignals } from '../ops/signals.js';
+import { promoteIfBetter } from '../runs/auto-promote.js';
+import type { PromotionDecision } from '../runs/promotion.js';
+import type { RunOutcome } from '../runner.js';
 import { onePositional, stringOption } from './args.js';
 import type { Command } from './command.js';
 
@@ -23,6 +26,11 @@ Options:
   --runs-dir DIR     where run folders go (default: ./runs)
   --cache-dir DIR    the stage cache (default: ./.foldstack/cache)
   --as-of DATE       the business date this run stands for (YYYY-MM-DD), kept in manifest.json
+  --promote-if-better
+                     afterwards, make this run the champion of its config name if there is
+                     none, or if it beats the champion by the config's promote rule (metric,
+                     min_gain, max_p) on the same holdout rows; the decision is one line on
+                     stderr and a line in the run's log.jsonl
   --debug            print stack traces on failure
 
 Only one run per config name at a time: the lock is runs/.locks/<name>.lock. A lock left by a
@@ -31,26 +39,37 @@ the run, remove its partial folder and release the lock.
 
 Exit codes:
 ${Object.entries(EXIT_MEANINGS).map(([k, v]) => `  ${String(EXIT[k as keyof typeof EXIT]).padStart(3)}  ${v}`).join('\n')}`,
-  options: { workers: { type: 'string' }, 'runs-dir': { type: 'string' }, 'cache-dir': { type: 'string' }, 'as-of': { type: 'string' } },
+  options: { workers: { type: 'string' }, 'runs-dir': { type: 'string' }, 'cache-dir': { type: 'string' }, 'as-of': { type: 'string' }, 'promote-if-better': { type: 'boolean' } },
   async run({ values, positionals }) {
     const config = await loadConfig(onePositional(positionals, 'CONFIG', 'run'));
     const workers = values.workers === undefined ? defaultWorkers() : parseWorkers(String(values.workers));
     const tty = process.stderr.isTTY === true;
     const started = Date.now();
     const asOf = values['as-of'] === undefined ? undefined : parseAsOf(String(values['as-of']));
+    const runsDir = resolve(stringOption(values['runs-dir'], 'runs'));
+    const logStream = process.stdout.isTTY ? undefined : process.stdout;
+    // Decided while the name's lock is held, so no other run of the name can interleave.
+    const promotion: { decision?: PromotionDecision } = {};
+    const promote = values['promote-if-better'] === true ? async (o: RunOutcome) => {
+      promotion.decision = await promoteIfBetter(o.runDir, runsDir, config.promote, { logStream });
+    } : undefined;
     const outcome = await abortOnSignals((signal) => runUnderLock(config, {
       workers,
       signal,
       asOf,
-      runsDir: resolve(stringOption(values['runs-dir'], 'runs')),
+      runsDir,
       cacheDir: resolve(stringOption(values['cache-dir'], '.foldstack/cache')),
-      logStream: process.stdout.isTTY ? undefined : process.stdout,
+      logStream,
       progress: tty ? (line) => process.stderr.write(`[${((Date.now() - started) / 1000).toFixed(1)}s] ${line}\n`) : undefined,
-    }, (line) => process.stderr.write(`warning: ${line}\n`)));
+    }, (line) => process.stderr.write(`warning: ${line}\n`), promote));
     const h = outcome.metrics.holdout.stack;
     const steps = outcome.manifest.steps;
     const hits = steps.filter((s) => s.hit).length;
     process.stderr.write(`stack holdout AUC ${fmt(h.auc)}, capture@${config.evaluate.budget} ${fmt(h.capture)} · ${hits}/${steps.length} steps from cache · ${outcome.manifest.seconds.toFixed(1)}s\n`);
+    const d = promotion.decision;
+    if (d) {
+      process.stderr.write(`champion of "${config.name}": ${d.promote ? 'this run' : (d.champion ?? 'none')} (${d.reason})\n`);
+    }
     process.stdout.write(outcome.runDir + '\n');
     return EXIT.ok;
   },
