@@ -142,7 +142,7 @@ describe('report.html', () => {
     expect(html).toContain('discontinued channel');
     expect(html).toContain('in [phone]');
     expect(html).not.toContain('Exclusion rules: none');
-    for (const name of ['lr', 'lr_strong']) expect(html).toContain(`</span> ${name}</td>`);
+    for (const name of ['lr', 'lr_strong']) expect(html).toContain(`</span>${name}</td>`);
     expect(html).toContain(metrics.holdout.stack.auc?.toFixed(3));
     expect(html).toContain(`>${metrics.stack.weights.lr.toFixed(4)}<`);
     expect(html).toContain('WoE = ln(share of non-events in the bin / share of events in the bin)');
@@ -166,8 +166,23 @@ describe('report.html', () => {
     const ages = d!.columns.find((c) => c.column === 'owner_age_band');
     expect(ages).toBeDefined();
     for (const g of ages!.groups) expect(html).toContain(`<td>${escapeHtml(g.group)}</td><td class="n">${g.n.toLocaleString('en-US')}</td>`);
-    const flagged = d!.columns.flatMap((c) => c.groups).filter((g) => g.flag).length;
-    expect((html.match(/class="flag">below 0\.8</g) ?? []).length).toBeGreaterThanOrEqual(flagged);
+    const flags = (h: string) => (h.match(/class="flag">below 0\.8</g) ?? []).length;
+    const flagged = [...d!.columns, ...(metrics.disparity_oof?.columns ?? [])].flatMap((c) => c.groups).filter((g) => g.flag).length;
+    expect(flags(html)).toBe(flagged);
+  });
+
+  it('flags exactly the groups metrics.json flags (one planted flag in a copied run folder)', async () => {
+    const copy = join(tempDir('report-flag'), 'run');
+    cpSync(runDir, copy, { recursive: true });
+    const m = JSON.parse(readFileSync(join(copy, 'metrics.json'), 'utf8')) as { disparity: { columns: { groups: { flag: boolean; ratio: number }[] }[] }; disparity_oof?: unknown };
+    delete m.disparity_oof;
+    for (const c of m.disparity.columns) for (const g of c.groups) g.flag = false;
+    m.disparity.columns[0].groups[0].flag = true;
+    m.disparity.columns[0].groups[0].ratio = 0.75;
+    writeFileSync(join(copy, 'metrics.json'), JSON.stringify(m));
+    const page = await buildReport(copy);
+    expect((page.match(/class="flag">below 0\.8</g) ?? []).length).toBe(1);
+    expect(page).toContain('<td class="n">0.750</td><td class="flag">below 0.8</td>');
   });
 
   it('foldstack report RUN rebuilds it byte for byte, from a copied folder and to --out', async () => {

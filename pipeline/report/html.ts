@@ -130,15 +130,21 @@ svg.chart .guide-label { font-size: 11px; fill: #5d6670; }
 svg.chart .mark { fill: #fff; stroke: #b3261e; stroke-width: 2; }
 svg.chart .mark-label { font-size: 11px; fill: #b3261e; font-weight: 600; }
 ul.legend { list-style: none; display: flex; flex-wrap: wrap; gap: 2px 14px; padding: 0; margin: 4px 0; font-size: .84rem; }
-ul.legend .swatch { display: inline-block; width: 18px; height: 4px; vertical-align: middle; margin-right: 5px; border-radius: 2px; }
-.bins { display: grid; grid-template-columns: repeat(auto-fill, minmax(520px, 1fr)); gap: 4px 28px; }
-.bins table { width: 100%; }
+td.name { white-space: nowrap; }
+td.name .swatch, ul.legend .swatch { display: inline-block; width: 18px; height: 4px; vertical-align: middle; margin-right: 5px; border-radius: 2px; }
+.bins { display: grid; grid-template-columns: repeat(auto-fill, minmax(500px, 1fr)); gap: 4px 28px; }
+.bins > * { min-width: 0; }
+.bins table { width: 100%; table-layout: fixed; }
+.bins th:nth-child(1) { width: 11%; } .bins th:nth-child(2) { width: 27%; } .bins th:nth-child(3), .bins th:nth-child(4) { width: 10%; }
+.bins th:nth-child(5) { width: 12%; } .bins th:nth-child(6) { width: 9%; } .bins th:nth-child(7) { width: 12%; } .bins th:nth-child(8) { width: 9%; }
+.bins td.interval { overflow: hidden; text-overflow: ellipsis; }
+td.interval { white-space: nowrap; }
 .bar { display: inline-block; height: 9px; vertical-align: middle; }
 .bar.pos { background: #4f7fa8; }
 .bar.neg { background: #c0772f; }
-td.bar-cell { width: 90px; padding-right: 6px; }
-td.bar-cell .axis { display: flex; width: 84px; }
-td.bar-cell .half { width: 42px; display: flex; align-items: center; }
+td.bar-cell { padding-right: 6px; }
+td.bar-cell .axis { display: flex; width: 64px; margin: 0 auto; }
+td.bar-cell .half { width: 32px; display: flex; align-items: center; }
 td.bar-cell .half.left { justify-content: flex-end; border-right: 1px solid #9aa3ab; }
 footer { margin-top: 40px; border-top: 1px solid var(--rule); padding-top: 8px; font-size: .8rem; color: var(--muted); }
 @media print {

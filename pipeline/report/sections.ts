@@ -112,19 +112,15 @@ function figureHtml(f: Figure): string {
 export function modelsSection(run: RunFiles): Section {
   const b = budgetOf(run);
   const models = run.sample.models;
-  const head: (string | Cell)[] = ['Sample', 'Model', ...[
-    'Rows', 'AUC', 'AUC 95% CI', 'Gini', `pAUC (FPR ≤ ${fixed(b, 2)})`, `Capture @${percent(b)}`, 'Capture 95% CI', `Precision @${percent(b)}`, `Lift @${percent(b)}`, 'KS', 'Log loss', 'Brier', 'ECE',
+  const head: (string | Cell)[] = ['Model', ...[
+    'Rows', 'AUC', '95% CI', 'Gini', `pAUC ≤ ${fixed(b, 2)}`, `Capture @${percent(b)}`, '95% CI', 'Precision', 'Lift', 'KS', 'Log loss', 'Brier', 'ECE',
   ].map((h) => ({ html: escapeHtml(h), num: true }))];
-  const rows: Cell[][] = [];
-  const classes: string[] = [];
-  for (const part of ['oof', 'holdout'] as const) {
-    for (const name of models) {
+  const metricTable = (part: 'oof' | 'holdout', caption: string) => {
+    const names = models.filter((name) => run.metrics[part][name] !== undefined);
+    const rows = names.map((name): Cell[] => {
       const s = run.metrics[part][name];
-      if (!s) continue;
-      classes.push(name === 'stack' ? 'stack' : '');
-      rows.push([
-        text(part === 'oof' ? 'out-of-fold' : 'holdout'),
-        { html: `<span class="swatch-dot" style="color:${modelColor(models, name)}">●</span> ${escapeHtml(name)}` },
+      return [
+        { html: `<span class="swatch" style="background:${modelColor(models, name)}"></span>${escapeHtml(name)}`, cls: 'name' },
         num(count(s.n)),
         num(fixed(s.auc, 3)),
         num(interval(s.auc_ci, 3), 'ci'),
@@ -138,10 +134,10 @@ export function modelsSection(run: RunFiles): Section {
         num(fixed(s.logloss, 4)),
         num(fixed(s.brier, 4)),
         num(fixed(s.ece, 4)),
-      ]);
-    }
-  }
-  const metricTable = table(head, rows, { rowClass: classes });
+      ];
+    });
+    return `<div class="wide">${table(head, rows, { caption, rowClass: names.map((n) => (n === 'stack' ? 'stack' : '')) })}</div>`;
+  };
   const w = run.metrics.stack;
   const weights = table(
     ['Learner', { html: 'Weight', num: true }],
@@ -151,8 +147,9 @@ export function modelsSection(run: RunFiles): Section {
   return {
     id: 'models',
     title: 'Learners and stack',
-    body: `<div class="wide">${metricTable}</div>
-<p class="note">AUC intervals are DeLong 95% intervals; capture intervals are stratified bootstrap 95% intervals. Partial AUC is McClish-standardised over FPR from 0 to the budget. ECE is the count-weighted expected calibration error over ten equal-width bins. Capture, precision and lift count rows tied at the cut fractionally.</p>
+    body: `${metricTable('oof', 'Out-of-fold predictions (development rows)')}
+${metricTable('holdout', 'Holdout rows')}
+<p class="note">Precision and lift are at the same budget as capture. AUC intervals are DeLong 95% intervals; capture intervals are stratified bootstrap 95% intervals. Partial AUC is McClish-standardised over FPR from 0 to the budget. ECE is the count-weighted expected calibration error over ten equal-width bins. Capture, precision and lift count rows tied at the cut fractionally.</p>
 <h3>Stack weights</h3>
 <p>Logistic blend on the logits of the learners' out-of-fold predictions${w.nonnegative ? ', weights constrained to be non-negative' : ''}.</p>
 ${weights}${budgets}`,
@@ -187,7 +184,7 @@ export function binsSection(run: RunFiles): Section {
   const maxAbs = Math.max(1e-12, ...run.bins.map((r) => (Number.isFinite(r.woe) ? Math.abs(r.woe) : 0)));
   const perColumn = order
     .map((c) => {
-      const rows = (byColumn.get(c) ?? []).map((r) => [text(r.bin), text(r.interval), num(count(r.n)), num(count(r.events)), num(percent(r.eventRate, 2)), num(fixed(r.woe, 3)), { html: woeBar(r.woe, maxAbs), cls: 'bar-cell' }, num(fixed(r.iv, 4))]);
+      const rows = (byColumn.get(c) ?? []).map((r) => [text(r.bin), text(shortInterval(r.interval), 'interval'), num(count(r.n)), num(count(r.events)), num(percent(r.eventRate, 2)), num(fixed(r.woe, 3)), { html: woeBar(r.woe, maxAbs), cls: 'bar-cell' }, num(fixed(r.iv, 4))]);
       return table(['Bin', 'Interval', { html: 'Rows', num: true }, { html: 'Events', num: true }, { html: 'Event rate', num: true }, { html: 'WoE', num: true }, '', { html: 'IV term', num: true }], rows, { caption: `${c} — IV ${fixed(iv.get(c), 4)}` });
     })
     .join('\n');
@@ -202,6 +199,12 @@ ${ivTable}
   };
 }
 
+/** Bin edges are stored at full double precision (0.10499999999999999); six significant digits read better and still tell edges apart. */
+function shortInterval(s: string): string {
+  // Only long decimals are touched, so level names with digits in them stay as they are.
+  return s.replace(/-?\d+\.\d{7,}(?:e[-+]?\d+)?/gi, (n) => String(Number(Number(n).toPrecision(6))));
+}
+
 function rank(v: number | undefined): number {
   return v === undefined || !Number.isFinite(v) ? -Infinity : v;
 }
@@ -209,7 +212,7 @@ function rank(v: number | undefined): number {
 /** A two-sided bar centred on zero, scaled to the largest |WoE| in the report. */
 function woeBar(woe: number, maxAbs: number): string {
   if (!Number.isFinite(woe)) return '';
-  const w = Math.round((Math.abs(woe) / maxAbs) * 40 * 10) / 10;
+  const w = Math.round((Math.abs(woe) / maxAbs) * 30 * 10) / 10;
   const bar = `<span class="bar ${woe >= 0 ? 'pos' : 'neg'}" style="width:${w}px"></span>`;
   return `<div class="axis"><div class="half left">${woe < 0 ? bar : ''}</div><div class="half">${woe >= 0 ? bar : ''}</div></div>`;
 }
@@ -217,8 +220,8 @@ function woeBar(woe: number, maxAbs: number): string {
 export function disparitySection(run: RunFiles): Section {
   const title = 'Selection-rate disparity (screening only)';
   const tables = [
-    { label: 'holdout rows', d: run.metrics.disparity },
-    { label: 'development rows, out-of-fold scores', d: run.metrics.disparity_oof },
+    { label: 'Holdout rows', d: run.metrics.disparity },
+    { label: 'Development rows, out-of-fold scores', d: run.metrics.disparity_oof },
   ].filter((t): t is { label: string; d: DisparityTable } => t.d !== undefined);
   if (tables.length === 0 || tables.every((t) => t.d.columns.length === 0)) {
     return { id: 'disparity', title, body: '<p>Protected columns: none declared, so there is no disparity table.</p>' };
