@@ -33,6 +33,10 @@ export function histogramLayout(nBins: Int32Array): HistogramLayout {
 /**
  * Direct accumulation over the rows order[start..end) for the columns cols[0..nCols).
  * Zeroes those columns' slots first; other columns are left untouched.
+ *
+ * Columns go four at a time so that each row's index, gradient and hessian are loaded once per
+ * four columns rather than once per column: those loads are scattered (rows of a node are not
+ * contiguous), and they dominated boosting time when done per column.
  */
 export function accumulate(
   hist: Float64Array,
@@ -50,6 +54,46 @@ export function accumulate(
     const c = cols[k];
     const base = layout.offset[c] * STATS;
     hist.fill(0, base, base + (layout.nBins[c] + 1) * STATS);
+  }
+  let k = 0;
+  for (; k + 4 <= nCols; k += 4) {
+    const c0 = cols[k];
+    const c1 = cols[k + 1];
+    const c2 = cols[k + 2];
+    const c3 = cols[k + 3];
+    const b0 = layout.offset[c0] * STATS;
+    const b1 = layout.offset[c1] * STATS;
+    const b2 = layout.offset[c2] * STATS;
+    const b3 = layout.offset[c3] * STATS;
+    const x0 = codes[c0];
+    const x1 = codes[c1];
+    const x2 = codes[c2];
+    const x3 = codes[c3];
+    for (let i = start; i < end; i++) {
+      const r = order[i];
+      const g = grad[r];
+      const h = hess[r];
+      let at = b0 + x0[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b1 + x1[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b2 + x2[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b3 + x3[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+    }
+  }
+  for (; k < nCols; k++) {
+    const c = cols[k];
+    const base = layout.offset[c] * STATS;
     const code = codes[c];
     for (let i = start; i < end; i++) {
       const r = order[i];

@@ -148,3 +148,30 @@ export function predictRaw(t: FlatTree, columns: readonly Float64Array[], rows: 
     out[i] = value[node];
   }
 }
+
+/**
+ * Adds the leaf value reached by each local row rows[i] (given its bin codes) to acc[rows[i]].
+ * Boosting keeps running margins and adds only the newest tree, so no row is ever re-run
+ * through the earlier trees.
+ */
+export function addLeafValuesBinned(t: FlatTree, codes: readonly BinCodes[], rows: Uint32Array, acc: Float64Array): void {
+  const feature = t.feature;
+  const tb = t.thresholdBin;
+  const mb = t.missingBin;
+  const missingLeft = t.missingLeft;
+  const left = t.left;
+  const right = t.right;
+  const value = t.value;
+  for (let i = 0; i < rows.length; i++) {
+    const r = rows[i];
+    let node = 0;
+    let f = feature[0];
+    while (f >= 0) {
+      const code = codes[f][r];
+      const goLeft = code === mb[node] ? missingLeft[node] === 1 : code <= tb[node];
+      node = goLeft ? left[node] : right[node];
+      f = feature[node];
+    }
+    acc[r] += value[node];
+  }
+}
