@@ -105,9 +105,13 @@ export function runContext(task: ContextTask): ContextResult {
   const stageInputs: string[][] = [];
 
   // The numeric features as they stand before imputation: for learners that take missing values.
-  let beforeImpute: string[] | undefined;
+  // Arrays, not names: impute re-emits the same names with filled values.
+  let beforeImpute: { names: string[]; values: Float64Array[] } | undefined;
   for (const item of task.stages) {
-    if (item.kind === 'impute') beforeImpute = available.filter((n) => mustGet(columns, n).type === 'numeric');
+    if (item.kind === 'impute') {
+      const names = available.filter((n) => mustGet(columns, n).type === 'numeric');
+      beforeImpute = { names, values: names.map((n) => (mustGet(columns, n) as NumericColumn).values) };
+    }
     const stage = stageRegistry.get(item.kind) as Stage<unknown, Json> | undefined;
     if (!stage) throw new Error(`unknown stage kind ${item.kind}`);
     const config = atStep(`${stage.kind}@${context.name}`, () => stage.resolveConfig(item.config));
@@ -140,8 +144,8 @@ export function runContext(task: ContextTask): ContextResult {
   const dropped = available.filter((n) => mustGet(columns, n).type !== 'numeric');
   available = available.filter((n) => mustGet(columns, n).type === 'numeric');
   const features = available.map((n) => (mustGet(columns, n) as NumericColumn).values);
-  const rawNames = beforeImpute ?? available;
-  const rawFeatures = rawNames.map((n) => (mustGet(columns, n) as NumericColumn).values);
+  const rawNames = beforeImpute?.names ?? available;
+  const rawFeatures = beforeImpute?.values ?? features;
   const predictions = new Map<string, Float64Array>();
   const learnerKeys = new Map<string, string>();
   const models: { name: string; model: Json }[] = [];

@@ -50,14 +50,17 @@ export function scoreColumns(spec: ScoringSpec, inputs: ReadonlyMap<string, Colu
   const rows = new Uint32Array(nRows);
   for (let i = 0; i < nRows; i++) rows[i] = i;
   const columns = new Map(inputs);
+  // Learners that take missing values read the columns as they stood before impute refilled them.
+  let beforeImpute: ReadonlyMap<string, Column> = columns;
   for (const s of spec.stages) {
+    if (s.kind === 'impute') beforeImpute = new Map(columns);
     const stage = stageOf(s, file);
     const out = stage.apply(s.state, { columns, rows }, s.inputs);
     for (const c of out) columns.set(c.name, c);
   }
   const predictions = spec.learners.map((l) => {
     const learner = learnerOf(l, file);
-    const features = l.features.map((name) => numericValues(columns, name, l.name, file));
+    const features = l.features.map((name) => numericValues(l.handlesMissing ? beforeImpute : columns, name, l.name, file));
     const p = learner.predict(l.model, features, rows);
     return l.prior_correction ? priorCorrect(p, l.prior_correction.tau, l.prior_correction.ybar) : p;
   });
