@@ -10,8 +10,12 @@ import { createRng } from './rng.js';
 import { foldRows, stratifiedFolds, stratifiedHoldout, timeHoldout } from './folds.js';
 import { PlanError } from './errors.js';
 
-/** Stage kinds in the order they run. `impute` always runs last (it builds the learners' matrix). */
-export const STAGE_ORDER: readonly string[] = ['dates', 'transforms', 'rate-encode', 'tree-bins', 'leaf-z', 'summaries', 'forest-leaves', 'select', 'impute'];
+/**
+ * Stage kinds in the order they run. `transforms` comes first so that it reshapes only the file's
+ * own numeric columns, not derived ones such as date parts. `impute` always runs last (it builds
+ * the learners' matrix).
+ */
+export const STAGE_ORDER: readonly string[] = ['transforms', 'dates', 'rate-encode', 'tree-bins', 'leaf-z', 'summaries', 'forest-leaves', 'select', 'impute'];
 
 export interface Split {
   /** 1 for holdout rows. */
