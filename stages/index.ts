@@ -11,6 +11,8 @@ import { leafZ } from './leaf-z.js';
 import { summaries } from './summaries.js';
 import { transforms } from './transforms.js';
 import { logistic } from './learners/logistic.js';
+import { boosted } from './learners/boosted.js';
+import { xgboost } from './learners/xgboost.js';
 
 type AnyStage = Stage<never, never>;
 type AnyLearner = Learner<never, never>;
@@ -20,5 +22,5 @@ export const stageRegistry: ReadonlyMap<string, AnyStage> = new Map<string, AnyS
 );
 
 export const learnerRegistry: ReadonlyMap<string, AnyLearner> = new Map<string, AnyLearner>(
-  ([logistic] as unknown as AnyLearner[]).map((l) => [l.kind, l]),
+  ([logistic, boosted, xgboost] as unknown as AnyLearner[]).map((l) => [l.kind, l]),
 );

@@ -52,4 +52,32 @@ stack: {nonnegative: false}
       }
     });
   }
+
+  it('noise target + unique keys stays at chance with the boosted and xgboost learners', async () => {
+    const dir = tempDir('canary-trees');
+    const csv = join(dir, 'noise.csv');
+    noiseCsv(csv, 4000);
+    const out = await runYaml(
+      dir,
+      `name: canary-trees
+seed: 5
+data: {file: ${csv}, target: y, columns: {key: categorical}}
+split: {folds: 5, holdout: {fraction: 0.25}}
+features:
+  rate-encode: {smoothing: 1}
+learners:
+  gb: {kind: boosted, rounds: 60, learning_rate: 0.1}
+  xg: {kind: xgboost, rounds: 30, learning_rate: 0.1}
+stack: {nonnegative: false}
+`,
+      { workers: 2 },
+    );
+    for (const part of ['oof', 'holdout'] as const) {
+      for (const name of ['gb', 'xg', 'stack']) {
+        const auc = out.metrics[part][name].auc;
+        expect(auc, `${part} ${name} AUC`).toBeGreaterThan(0.45);
+        expect(auc, `${part} ${name} AUC`).toBeLessThan(0.55);
+      }
+    }
+  }, 180_000);
 });

@@ -95,6 +95,17 @@ export const stageKinds: ReadonlyMap<string, ObjectSchema> = new Map([
   ],
 ]);
 
+/** Options the two boosted-tree learners share, with the same meaning and defaults. */
+const boostingOptions = {
+  rounds: optional(integer('Number of boosting rounds (trees), at most.', { min: 1, max: 100000 }), 300),
+  learning_rate: optional(number('Shrinkage applied to every tree\'s leaf values.', { min: 0, max: 1, exclusiveMin: true }), 0.05),
+  max_depth: optional(integer('Maximum depth of each tree.', { min: 1, max: 16 }), 5),
+  min_child_weight: optional(number('Smallest hessian sum (≈ rows × p(1 − p)) allowed in a child.', { min: 0 }), 1),
+  l2: optional(number('L2 penalty on leaf values (λ).', { min: 0 }), 1),
+  subsample: optional(number('Share of rows drawn for each tree.', { min: 0, max: 1, exclusiveMin: true }), 0.8),
+  colsample: optional(number('Share of columns drawn for each tree.', { min: 0, max: 1, exclusiveMin: true }), 0.8),
+};
+
 export const learnerKinds: ReadonlyMap<string, ObjectSchema> = new Map([
   [
     'logistic',
@@ -102,6 +113,27 @@ export const learnerKinds: ReadonlyMap<string, ObjectSchema> = new Map([
       l2: optional(number('L2 penalty strength on the standardised coefficients (intercept not penalised).', { min: 0 }), 1.0),
       max_iter: optional(integer('Maximum Newton iterations.', { min: 1, max: 1000 }), 100),
       tol: optional(number('Convergence tolerance on the change in log-loss between iterations.', { min: 0, exclusiveMin: true }), 1e-10),
+    }),
+  ],
+  [
+    'boosted',
+    object('Gradient-boosted trees for log loss on binned columns; missing values take a learned direction at each split.', {
+      ...boostingOptions,
+      base_score: optional(number('Starting probability for every row; default: the event rate of the fit rows.', { min: 0, max: 1, exclusiveMin: true, exclusiveMax: true })),
+      early_stop: optional(
+        object('Hold back a stratified slice of the fit rows, score it after every round, and keep the trees up to the round with the lowest log loss.', {
+          rounds: optional(integer('Stop after this many rounds without a lower held-back log loss; 0 turns early stopping off.', { min: 0 }), 30),
+          fraction: optional(number('Share of each class held back.', { min: 0, max: 0.5, exclusiveMin: true }), 0.1),
+        }),
+        { rounds: 30, fraction: 0.1 },
+      ),
+    }),
+  ],
+  [
+    'xgboost',
+    object('Boosted trees from the XGBoost engine (WebAssembly build), run in a separate process on binned columns; missing values are passed as missing.', {
+      ...boostingOptions,
+      seed: optional(integer('Seed of the engine\'s row and column draws; default: derived from the run seed.', { min: 0, max: 2147483646 })),
     }),
   ],
 ]);
