@@ -10,7 +10,11 @@ import { treeBins } from './tree-bins.js';
 import { leafZ } from './leaf-z.js';
 import { summaries } from './summaries.js';
 import { transforms } from './transforms.js';
+import { forestLeaves } from './forest-leaves.js';
+import { select } from './select.js';
 import { logistic } from './learners/logistic.js';
+import { tree } from './learners/tree.js';
+import { forest } from './learners/forest.js';
 import { boosted } from './learners/boosted.js';
 import { xgboost } from './learners/xgboost.js';
 
@@ -18,9 +22,9 @@ type AnyStage = Stage<never, never>;
 type AnyLearner = Learner<never, never>;
 
 export const stageRegistry: ReadonlyMap<string, AnyStage> = new Map<string, AnyStage>(
-  ([datesStage, transforms, rateEncode, treeBins, leafZ, summaries, impute] as unknown as AnyStage[]).map((s) => [s.kind, s]),
+  ([datesStage, transforms, rateEncode, treeBins, leafZ, summaries, forestLeaves, select, impute] as unknown as AnyStage[]).map((s) => [s.kind, s]),
 );
 
 export const learnerRegistry: ReadonlyMap<string, AnyLearner> = new Map<string, AnyLearner>(
-  ([logistic, boosted, xgboost] as unknown as AnyLearner[]).map((l) => [l.kind, l]),
+  ([logistic, tree, forest, boosted, xgboost] as unknown as AnyLearner[]).map((l) => [l.kind, l]),
 );

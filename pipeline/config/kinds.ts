@@ -2,7 +2,7 @@
  * Option schemas per stage kind and per learner kind. Adding a kind to the config language is one
  * entry here; the config schema, validation, JSON Schema and reference docs all pick it up.
  */
-import { arrayOf, integer, number, object, oneOfValues, optional, string, type ObjectSchema } from './schema-dsl.js';
+import { arrayOf, boolean, integer, number, object, oneOfValues, optional, string, type ObjectSchema } from './schema-dsl.js';
 
 const columnList = (what: string) => arrayOf(string('A column name from the data file.', { minLength: 1 }), what);
 
@@ -93,6 +93,33 @@ export const stageKinds: ReadonlyMap<string, ObjectSchema> = new Map([
       { nullable: true },
     ),
   ],
+  [
+    'forest-leaves',
+    object(
+      'A small bagged forest over the numeric features; each tree becomes a column forest_leaf_<t> holding the smoothed event rate of the row\'s leaf (cross-fitted).',
+      {
+        trees: optional(integer('Number of trees (one output column each).', { min: 1, max: 1000 }), 10),
+        max_depth: optional(integer('Maximum depth of each tree.', { min: 1, max: 16 }), 3),
+        min_leaf: optional(number('Smallest leaf: ≥ 1 is a row count (whole number), < 1 a fraction of the fit rows.', { min: 0, exclusiveMin: true }), 0.05),
+        smoothing: optional(smoothing, 20),
+      },
+      { nullable: true },
+    ),
+  ],
+  [
+    'select',
+    object(
+      'Keep only the numeric features a small forest ranks most important on the train rows (fitted once per context, not cross-fitted; the kept columns pass through unchanged).',
+      {
+        by: optional(oneOfValues('Ranking criterion: the forest\'s total Gini impurity decrease per column.', ['importance']), 'importance'),
+        keep: optional(integer('Number of columns to keep; ties go to the earlier column.', { min: 1 }), 20),
+        trees: optional(integer('Trees in the ranking forest.', { min: 1, max: 10000 }), 50),
+        max_depth: optional(integer('Maximum depth of each ranking tree.', { min: 1, max: 32 }), 6),
+        min_leaf: optional(number('Smallest leaf: ≥ 1 is a row count (whole number), < 1 a fraction of the fit rows.', { min: 0, exclusiveMin: true }), 20),
+      },
+      { nullable: true },
+    ),
+  ],
 ]);
 
 /** Options the two boosted-tree learners share, with the same meaning and defaults. */
@@ -113,6 +140,27 @@ export const learnerKinds: ReadonlyMap<string, ObjectSchema> = new Map([
       l2: optional(number('L2 penalty strength on the standardised coefficients (intercept not penalised).', { min: 0 }), 1.0),
       max_iter: optional(integer('Maximum Newton iterations.', { min: 1, max: 1000 }), 100),
       tol: optional(number('Convergence tolerance on the change in log-loss between iterations.', { min: 0, exclusiveMin: true }), 1e-10),
+    }),
+  ],
+  [
+    'tree',
+    object('One classification tree (Gini splits) on binned columns; the probability is the leaf\'s event rate; missing values take a learned side at each split.', {
+      max_depth: optional(integer('Maximum depth of the tree.', { min: 1, max: 32 }), 6),
+      min_leaf: optional(number('Smallest leaf: ≥ 1 is a row count (whole number), < 1 a fraction of the fit rows.', { min: 0, exclusiveMin: true }), 50),
+      smoothing: optional(smoothing, 0),
+      max_bins: optional(integer('Value bins per column; a column with no more distinct values is split exactly.', { min: 2, max: 65535 }), 255),
+    }),
+  ],
+  [
+    'forest',
+    object('Bagged classification trees with a random subset of columns tried at every split; the probability is the mean of the trees\' leaf event rates; missing values take a learned side at each split.', {
+      trees: optional(integer('Number of trees.', { min: 1, max: 10000 }), 200),
+      max_depth: optional(integer('Maximum depth of each tree.', { min: 1, max: 32 }), 8),
+      min_leaf: optional(number('Smallest leaf: ≥ 1 is a row count (whole number), < 1 a fraction of the fit rows.', { min: 0, exclusiveMin: true }), 20),
+      max_features: optional(number('Columns tried per split: < 1 a fraction of the columns, ≥ 1 a count (whole number); default: the square root of the column count, rounded.', { min: 0, exclusiveMin: true })),
+      sample: optional(number('Rows drawn for each tree, as a fraction of the fit rows.', { min: 0, max: 1, exclusiveMin: true }), 1.0),
+      bootstrap: optional(boolean('Draw rows with replacement (true) or without (false; with sample 1 every tree sees every row).'), true),
+      permutation_rows: optional(integer('Out-of-bag rows per tree scored for the permutation importance (a random subset when there are more); 0 skips it.', { min: 0 }), 5000),
     }),
   ],
   [

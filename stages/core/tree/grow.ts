@@ -7,14 +7,19 @@
  * larger child's is the parent's minus the smaller's, computed in the parent's buffer.
  *
  * Reuse: Gini trees pass grad = weight·y and hess = weight; boosted trees pass gradients and
- * hessians; forests pass a bootstrap as repeated rows in `rows` and ask for a random column
- * subset per split (`featuresPerSplit` with an `rng`). Histograms always cover every candidate
- * column so that subtraction stays valid whatever subset a sibling draws.
+ * hessians; forests pass a bootstrap as repeated rows in `rows` (or as integer weights in
+ * grad/hess) and ask for a random column subset per split (`featuresPerSplit` with an `rng`).
+ *
+ * Without column sampling, histograms cover every candidate column and the larger child comes
+ * from subtraction. With column sampling, a node's histogram is accumulated directly for the
+ * columns it drew only: subtraction would need the parent's histogram for every column a child
+ * might draw, i.e. all of them, which costs rows × columns per level instead of rows × drawn.
+ * Both give the same split for the same draw, since the search reads only the drawn columns.
  */
 import type { Rng } from '../../types.js';
 import type { BinCodes } from './bin.js';
 import { TreeParamError } from './errors.js';
-import { HistogramPool, accumulate, histogramLayout, subtractInPlace } from './histogram.js';
+import { HistogramPool, accumulate, accumulateGathered, histogramLayout, subtractInPlace } from './histogram.js';
 import type { FlatTree } from './predict.js';
 import { SplitResult, findBestSplit, type SplitParams } from './split.js';
 
@@ -113,8 +118,15 @@ export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
     g0 += grad[order[i]];
     h0 += hess[order[i]];
   }
+  const sampled = perSplit < nCand;
+  // in sampled mode every node shares the root's buffer, so it never goes back to the pool
+  const release = (h: Float64Array): void => {
+    if (!sampled) pool.give(h);
+  };
+  const gOrd = new Float64Array(sampled ? order.length : 0);
+  const hOrd = new Float64Array(sampled ? order.length : 0);
   const root = pool.take();
-  accumulate(root, layout, data.codes, cand, nCand, order, 0, order.length, grad, hess);
+  if (!sampled) accumulate(root, layout, data.codes, cand, nCand, order, 0, order.length, grad, hess);
   let level: LiveNode[] = [{ id: nodes.add(0, g0, h0, order.length, valueOf(opts.leafValue, g0, h0, lambda)), start: 0, end: order.length, hist: root }];
 
   for (let depth = 0; level.length > 0; depth++) {
@@ -122,14 +134,21 @@ export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
     for (const node of level) {
       const n = node.end - node.start;
       if (depth >= opts.maxDepth || n < opts.minSplit) {
-        pool.give(node.hist);
+        release(node.hist);
         continue;
       }
-      const cols = perSplit < nCand ? sampleColumns(drawn, perSplit, opts.rng as Rng) : cand;
-      const nUse = perSplit < nCand ? perSplit : nCand;
+      const cols = sampled ? sampleColumns(drawn, perSplit, opts.rng as Rng) : cand;
+      const nUse = sampled ? perSplit : nCand;
+      if (sampled) {
+        for (let i = node.start, j = 0; i < node.end; i++, j++) {
+          gOrd[j] = grad[order[i]];
+          hOrd[j] = hess[order[i]];
+        }
+        accumulateGathered(node.hist, layout, data.codes, cols, nUse, order, node.start, node.end, gOrd, hOrd);
+      }
       findBestSplit(node.hist, layout, cols, nUse, nodes.grad[node.id], nodes.hess[node.id], n, opts.split, best);
       if (best.feature < 0) {
-        pool.give(node.hist);
+        release(node.hist);
         continue;
       }
       const f = best.feature;
@@ -143,7 +162,13 @@ export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
       const edges = data.thresholds[f];
       nodes.setSplit(node.id, f, best.bin, best.bin < edges.length ? edges[best.bin] : Infinity, data.nBins[f], best.missingLeft, leftId, rightId);
       if (depth + 1 >= opts.maxDepth) {
-        pool.give(node.hist);
+        release(node.hist);
+        continue;
+      }
+      if (sampled) {
+        // children fill their own histograms when their turn comes; one buffer serves a level
+        next.push({ id: leftId, start: node.start, end: mid, hist: node.hist });
+        next.push({ id: rightId, start: mid, end: node.end, hist: node.hist });
         continue;
       }
       const small = pool.take();

@@ -30,6 +30,9 @@ export interface FlatTree {
   readonly depth: Int32Array;
 }
 
+/** What applying a tree to raw values needs: the part of a FlatTree a fitted model stores. */
+export type RawTree = Pick<FlatTree, 'feature' | 'threshold' | 'missingLeft' | 'left' | 'right' | 'value'>;
+
 /** Plain-JSON form of a FlatTree; an infinite threshold is written as null. */
 export interface FlatTreeJson {
   readonly feature: number[];
@@ -86,7 +89,7 @@ export function treeFromJson(j: FlatTreeJson): FlatTree {
 }
 
 /** Leaf reached by each row: out[i] for values at rows[i] of `columns` (indexed like the tree's features). */
-export function leafIndexRaw(t: FlatTree, columns: readonly Float64Array[], rows: Uint32Array, out: Int32Array): void {
+export function leafIndexRaw(t: RawTree, columns: readonly Float64Array[], rows: Uint32Array, out: Int32Array): void {
   const feature = t.feature;
   const threshold = t.threshold;
   const missingLeft = t.missingLeft;
@@ -128,7 +131,7 @@ export function leafIndexBinned(t: FlatTree, codes: readonly BinCodes[], n: numb
 }
 
 /** Leaf value for each of `rows` on raw values. */
-export function predictRaw(t: FlatTree, columns: readonly Float64Array[], rows: Uint32Array, out: Float64Array): void {
+export function predictRaw(t: RawTree, columns: readonly Float64Array[], rows: Uint32Array, out: Float64Array): void {
   const feature = t.feature;
   const threshold = t.threshold;
   const missingLeft = t.missingLeft;
