@@ -114,6 +114,9 @@ interface Layout {
   readonly loaded: readonly LoadedColumn[];
 }
 
+/** Separators other tools write; a one-column header containing one of them means the file is not comma-separated. */
+const OTHER_SEPARATORS = [';', '\t', '|'];
+
 function unknownName(file: string, header: CsvRecord, name: string, what: string): CsvError {
   const lower = name.toLowerCase();
   let suggestion = header.fields.find((h) => h.toLowerCase() === lower);
@@ -129,6 +132,17 @@ function unknownName(file: string, header: CsvRecord, name: string, what: string
   }
   const listed = header.fields.slice(0, 50).map(quoteText).join(', ');
   const more = header.fields.length > 50 ? `, ... (${header.fields.length} columns)` : '';
+  const separator = header.fields.length === 1 ? OTHER_SEPARATORS.find((c) => header.fields[0].includes(c)) : undefined;
+  if (separator !== undefined) {
+    return new CsvError({
+      file,
+      line: header.line,
+      column: 0,
+      expected: `a column named ${quoteText(name)} (${what})`,
+      found: `a header of one column, ${quoteText(header.fields[0])}`,
+      hint: `the file looks ${separator === '\t' ? 'tab' : quoteText(separator)}-separated; foldstack reads comma-separated files, so re-save it with commas`,
+    });
+  }
   return new CsvError({
     file,
     line: header.line,
