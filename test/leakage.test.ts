@@ -23,6 +23,11 @@ function noiseCsv(path: string, rows: number): void {
 
 const FEATURE_SETS: Record<string, string> = {
   'rate-encode': `  rate-encode: {smoothing: 1}`,
+  // small leaves and little smoothing: a forest-leaves fit that saw its own rows' targets would score far above chance
+  'forest-leaves': `  rate-encode: {smoothing: 1}
+  forest-leaves: {trees: 5, max_depth: 4, min_leaf: 5, smoothing: 1}`,
+  select: `  rate-encode: {smoothing: 1}
+  select: {keep: 2, trees: 10}`,
 };
 
 describe('leakage canary', () => {
@@ -74,6 +79,36 @@ stack: {nonnegative: false}
     );
     for (const part of ['oof', 'holdout'] as const) {
       for (const name of ['gb', 'xg', 'stack']) {
+        const auc = out.metrics[part][name].auc;
+        expect(auc, `${part} ${name} AUC`).toBeGreaterThan(0.45);
+        expect(auc, `${part} ${name} AUC`).toBeLessThan(0.55);
+      }
+    }
+  }, 180_000);
+
+  it('noise target + unique keys stays at chance with the tree and forest learners after forest-leaves and select', async () => {
+    const dir = tempDir('canary-forest');
+    const csv = join(dir, 'noise.csv');
+    noiseCsv(csv, 4000);
+    const out = await runYaml(
+      dir,
+      `name: canary-forest
+seed: 5
+data: {file: ${csv}, target: y, columns: {key: categorical}}
+split: {folds: 5, holdout: {fraction: 0.25}}
+features:
+  rate-encode: {smoothing: 1}
+  forest-leaves: {trees: 4, max_depth: 4, min_leaf: 5, smoothing: 1}
+  select: {keep: 4, trees: 10}
+learners:
+  t: {kind: tree, max_depth: 6, min_leaf: 10}
+  f: {kind: forest, trees: 40, min_leaf: 5}
+stack: {nonnegative: false}
+`,
+      { workers: 2 },
+    );
+    for (const part of ['oof', 'holdout'] as const) {
+      for (const name of ['t', 'f', 'stack']) {
         const auc = out.metrics[part][name].auc;
         expect(auc, `${part} ${name} AUC`).toBeGreaterThan(0.45);
         expect(auc, `${part} ${name} AUC`).toBeLessThan(0.55);
