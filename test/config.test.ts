@@ -1,6 +1,9 @@
 import { readFileSync } from 'node:fs';
 import path from 'node:path';
 import { fileURLToPath } from 'node:url';
+import { stageRegistry, learnerRegistry } from '../stages/index.js';
+import { stageKinds, learnerKinds } from '../pipeline/config/kinds.js';
+import { STAGE_ORDER } from '../pipeline/plan.js';
 import { describe, expect, it } from 'vitest';
 import {
   canonicalJson,
@@ -95,7 +98,7 @@ describe('error details', () => {
   it('lists the allowed keys when nothing is within edit distance 2', () => {
     const err = parseError('name: demo\nzzzzzz: 1\n');
     expect(err.path).toBe('zzzzzz');
-    expect(err.hint).toBe('allowed keys: name, seed, data, split, features, learners, stack, evaluate');
+    expect(err.hint).toBe('allowed keys: name, seed, data, split, features, learners, exclude, balance, stack, evaluate, promote');
   });
 
   it('formats for the CLI as the message line plus a hint line', () => {
@@ -276,7 +279,7 @@ describe('JSON Schema export', () => {
   it('is a draft 2020-12 document with a title and the top-level keys', () => {
     expect(schema.$schema).toBe('https://json-schema.org/draft/2020-12/schema');
     expect(schema.title).toBe('foldstack config');
-    expect(Object.keys(schema.properties as object)).toEqual(['name', 'seed', 'data', 'split', 'features', 'learners', 'stack', 'evaluate']);
+    expect(Object.keys(schema.properties as object)).toEqual(['name', 'seed', 'data', 'split', 'features', 'learners', 'exclude', 'balance', 'stack', 'evaluate', 'promote']);
     expect(schema.required).toEqual(['name', 'data', 'learners']);
   });
 
@@ -303,8 +306,16 @@ describe('JSON Schema export', () => {
     expect(logistic.required).toEqual(['kind']);
     expect((logistic.properties as { [k: string]: { [k: string]: Json } }).kind.const).toBe('logistic');
     const features = props.features.properties as { [k: string]: { [k: string]: Json } };
-    expect(Object.keys(features)).toEqual(['rate-encode', 'tree-bins', 'leaf-z', 'summaries', 'dates']);
+    expect(Object.keys(features)).toEqual([...stageKinds.keys()]);
     expect(features['tree-bins'].type).toEqual(['object', 'null']);
+  });
+});
+
+describe('schema and stage registry', () => {
+  it('every configurable stage and learner kind has a module, and every module but impute a schema entry', () => {
+    expect([...stageKinds.keys()].sort()).toEqual([...stageRegistry.keys()].filter((k) => k !== 'impute').sort());
+    expect([...learnerKinds.keys()].sort()).toEqual([...learnerRegistry.keys()].sort());
+    for (const kind of stageKinds.keys()) expect(STAGE_ORDER, kind).toContain(kind);
   });
 });
 
