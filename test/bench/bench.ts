@@ -6,12 +6,14 @@
  *
  *   npm run bench                 # 50k and 200k rows
  *   npm run bench -- 50000        # chosen sizes only
+ *   npm run bench -- --no-components   # skip the per-component comparisons
  */
 import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { spawnSync } from 'node:child_process';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { generateDemo } from '../../data-demo/generate.js';
+import { runComponents } from './components.js';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..', '..');
 const out = join(root, 'bench-out');
@@ -63,7 +65,7 @@ evaluate: {budget: 0.1}
 }
 
 async function main(): Promise<void> {
-  const sizes = process.argv.slice(2).map(Number).filter((n) => Number.isInteger(n) && n > 0);
+  const sizes = process.argv.slice(2).filter((a) => !a.startsWith('--')).map(Number).filter((n) => Number.isInteger(n) && n > 0);
   const rowsList = sizes.length ? sizes : [50_000, 200_000];
   mkdirSync(out, { recursive: true });
   const peer = peerAvailable();
@@ -90,6 +92,12 @@ async function main(): Promise<void> {
     }
     process.stdout.write(line + '\n');
     lines.push(line);
+  }
+  if (!process.argv.includes('--no-components')) {
+    for (const line of runComponents(out, peer ? python : undefined)) {
+      process.stdout.write(line + '\n');
+      lines.push(line);
+    }
   }
   writeFileSync(join(out, 'summary.txt'), lines.join('\n') + '\n');
 }
