@@ -19,7 +19,7 @@
 import type { Rng } from '../../types.js';
 import type { BinCodes } from './bin.js';
 import { TreeParamError } from './errors.js';
-import { HistogramPool, accumulate, accumulateGathered, histogramLayout, subtractInPlace } from './histogram.js';
+import { HistogramPool, accumulate, histogramLayout, subtractInPlace } from './histogram.js';
 import type { FlatTree } from './predict.js';
 import { SplitResult, findBestSplit, type SplitParams } from './split.js';
 
@@ -123,8 +123,6 @@ export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
   const release = (h: Float64Array): void => {
     if (!sampled) pool.give(h);
   };
-  const gOrd = new Float64Array(sampled ? order.length : 0);
-  const hOrd = new Float64Array(sampled ? order.length : 0);
   const root = pool.take();
   if (!sampled) accumulate(root, layout, data.codes, cand, nCand, order, 0, order.length, grad, hess);
   let level: LiveNode[] = [{ id: nodes.add(0, g0, h0, order.length, valueOf(opts.leafValue, g0, h0, lambda)), start: 0, end: order.length, hist: root }];
@@ -139,13 +137,7 @@ export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
       }
       const cols = sampled ? sampleColumns(drawn, perSplit, opts.rng as Rng) : cand;
       const nUse = sampled ? perSplit : nCand;
-      if (sampled) {
-        for (let i = node.start, j = 0; i < node.end; i++, j++) {
-          gOrd[j] = grad[order[i]];
-          hOrd[j] = hess[order[i]];
-        }
-        accumulateGathered(node.hist, layout, data.codes, cols, nUse, order, node.start, node.end, gOrd, hOrd);
-      }
+      if (sampled) accumulate(node.hist, layout, data.codes, cols, nUse, order, node.start, node.end, grad, hess);
       findBestSplit(node.hist, layout, cols, nUse, nodes.grad[node.id], nodes.hess[node.id], n, opts.split, best);
       if (best.feature < 0) {
         release(node.hist);

@@ -141,34 +141,3 @@ export class HistogramPool {
     this.free.push(h);
   }
 }
-
-/**
- * `accumulate` for rows whose gradients and hessians were gathered in row order: g[i − start] and
- * h[i − start] belong to order[i]. Used when a node fills several columns from its rows, so the
- * scattered reads of grad/hess happen once per row instead of once per row and column.
- */
-export function accumulateGathered(
-  hist: Float64Array,
-  layout: HistogramLayout,
-  codes: readonly BinCodes[],
-  cols: Int32Array,
-  nCols: number,
-  order: Uint32Array,
-  start: number,
-  end: number,
-  g: Float64Array,
-  h: Float64Array,
-): void {
-  for (let k = 0; k < nCols; k++) {
-    const c = cols[k];
-    const base = layout.offset[c] * STATS;
-    hist.fill(0, base, base + (layout.nBins[c] + 1) * STATS);
-    const code = codes[c];
-    for (let i = start, j = 0; i < end; i++, j++) {
-      const at = base + code[order[i]] * STATS;
-      hist[at] += g[j];
-      hist[at + 1] += h[j];
-      hist[at + 2] += 1;
-    }
-  }
-}
