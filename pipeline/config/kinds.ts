@@ -96,7 +96,7 @@ export const stageKinds: ReadonlyMap<string, ObjectSchema> = new Map([
   [
     'forest-leaves',
     object(
-      'A small bagged forest over the numeric features; each tree becomes a column forest_leaf_<t> holding the smoothed event rate of the row\'s leaf (cross-fitted).',
+      'A small bagged forest over the numeric features; tree t becomes a column forest_leaf_t (t = 1, 2, …) holding the smoothed event rate of the row\'s leaf (cross-fitted).',
       {
         trees: optional(integer('Number of trees (one output column each).', { min: 1, max: 1000 }), 10),
         max_depth: optional(integer('Maximum depth of each tree.', { min: 1, max: 16 }), 3),
