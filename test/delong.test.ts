@@ -7,7 +7,7 @@
 import { readFileSync } from 'node:fs';
 import { describe, expect, it } from 'vitest';
 import { auc } from '../pipeline/metrics/auc.js';
-import { pairedBootstrapCi, stratifiedBootstrapCi } from '../pipeline/metrics/bootstrap.js';
+import { pairedBootstrapCi, stratifiedBootstrapCi, stratifiedCaptureCi } from '../pipeline/metrics/bootstrap.js';
 import { budgetMetrics } from '../pipeline/metrics/budget.js';
 import { delongAuc, delongPlacements, delongTest } from '../pipeline/metrics/delong.js';
 import { MetricInputError } from '../pipeline/metrics/input.js';
@@ -153,6 +153,15 @@ describe('stratified bootstrap', () => {
     expect(ci.replicates).toBe(1000);
     expect(ci.low).toBeLessThan(ci.estimate!);
     expect(ci.high).toBeGreaterThan(ci.estimate!);
+  });
+  it('the block-count capture bootstrap gives exactly the generic bootstrap of budgetMetrics capture (heavy ties in Seniority)', () => {
+    // An internal identity, not an external reference: same draws, same per-replicate value.
+    for (const budget of [0.05, 0.1, 0.2]) {
+      const capture = (y: Uint8Array, p: Float64Array) => budgetMetrics(y, p, budget)?.capture ?? null;
+      const generic = stratifiedBootstrapCi(CY, seniority, capture, splitmix32(8), { replicates: 200 })!;
+      const fast = stratifiedCaptureCi(CY, seniority, budget, splitmix32(8), { replicates: 200 })!;
+      expect(fast).toEqual(generic);
+    }
   });
   it('paired variant: CI of the AUC difference is reproducible and agrees with the DeLong difference CI', () => {
     const y = keep(CY);

@@ -15,8 +15,8 @@
 import type { Rng } from '../../stages/types.js';
 import { aucFromCurve } from './auc.js';
 import { averagePrecisionFromCurve } from './average-precision.js';
-import { DEFAULT_REPLICATES, stratifiedBootstrapCi } from './bootstrap.js';
-import { budgetFromCurve, budgetMetrics } from './budget.js';
+import { DEFAULT_REPLICATES, stratifiedCaptureCi } from './bootstrap.js';
+import { budgetFromCurve } from './budget.js';
 import { calibrationGlm, calibrationTable, expectedCalibrationError, type CalibrationTable } from './calibration.js';
 import { scoreCurve } from './curve.js';
 import { delongAuc } from './delong.js';
@@ -152,8 +152,7 @@ export function evaluateScores(y: Uint8Array, p: Float64Array, opts: EvaluateOpt
   };
   const replicates = opts.bootstrap ?? (opts.rng ? DEFAULT_REPLICATES : 0);
   if (replicates > 0 && opts.rng) {
-    const budget = opts.budget;
-    const ci = stratifiedBootstrapCi(y, p, (yb, pb) => budgetMetrics(yb, pb, budget)?.capture ?? null, opts.rng, { replicates });
+    const ci = stratifiedCaptureCi(y, p, opts.budget, opts.rng, { replicates });
     return { ...set, capture_ci: ci ? [ci.low, ci.high] : null };
   }
   return set;
