@@ -17,8 +17,8 @@ import { fitStack, applyStack, type StackModel } from '../stages/stack.js';
 import { evaluateScores, type MetricSet } from './metrics/evaluate.js';
 import { createRng } from './rng.js';
 import { foldRows } from './folds.js';
-import { stageRegistry } from '../stages/index.js';
-import type { Json, Stage, StageReport } from '../stages/types.js';
+import { learnerRegistry, stageRegistry } from '../stages/index.js';
+import type { Json, Learner, Stage, StageReport } from '../stages/types.js';
 import { RunFolder } from './run-folder.js';
 import { REPORT_FILE, writeReport } from './report/build.js';
 import { bundleOfRun } from './bundle/build.js';
@@ -197,6 +197,8 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
     await folder.writeOof(frame, plan, learnerNames, oofPreds, blend.oof);
     await folder.writeHoldout(frame, plan, learnerNames, holdPreds, blend.holdout);
     for (const r of stageReports) for (const [name, table] of Object.entries(r.report.tables ?? {})) await folder.writeTable(name, table);
+    // Learner tables (e.g. a forest's importances) are named after the learner: two forests must not collide.
+    for (const r of describeLearners(plan.learners, final.models)) for (const [name, table] of Object.entries(r.report.tables ?? {})) await folder.writeTable(`${r.name}_${name}`, table);
     checkpoint();
     folder.writeJson('metrics.json', metrics);
     const cut = metrics.holdout.stack.cut;
@@ -398,6 +400,16 @@ function describeStages(states: readonly { kind: string; state: Json }[]): { kin
   for (const s of states) {
     const stage = stageRegistry.get(s.kind) as Stage<unknown, Json> | undefined;
     if (stage?.describe) out.push({ kind: s.kind, report: stage.describe(s.state) });
+  }
+  return out;
+}
+
+function describeLearners(learners: readonly { name: string; kind: string }[], models: readonly { name: string; model: Json }[]): { name: string; report: StageReport }[] {
+  const out: { name: string; report: StageReport }[] = [];
+  for (const l of learners) {
+    const learner = learnerRegistry.get(l.kind) as Learner<unknown, Json> | undefined;
+    const model = models.find((m) => m.name === l.name)?.model;
+    if (learner?.describe && model !== undefined) out.push({ name: l.name, report: learner.describe(model) });
   }
   return out;
 }
