@@ -28,12 +28,14 @@ import {
   type Frame,
   type Role,
 } from '../frame.js';
-import { editDistance } from '../config/suggest.js';
+import { editDistance } from '../../stages/core/edit-distance.js';
 import { checkHeader, scanCsv, type CsvReadOptions, type CsvRecord, type CsvRow, type CsvSink } from './csv-reader.js';
 import { CsvError, quoteText } from './csv-error.js';
 import { isNonFiniteToken, parseDecimalRange, parseIsoDate } from './cells.js';
 
-export type ColumnDecl = 'numeric' | 'categorical' | 'date' | 'ignore' | 'protected';
+import type { ColumnDecl } from '../config/types.js';
+
+export type { ColumnDecl };
 
 export interface DataSpec {
   /** Name of the 0/1 outcome column. */
