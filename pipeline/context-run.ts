@@ -192,7 +192,7 @@ export function runContext(task: ContextTask): ContextResult {
 }
 
 /** Fit one stage in a context, cross-fitting it when it reads the target. Outputs cover the context's rows. */
-function fitStageInContext(stage: Stage<unknown, Json>, config: unknown, inputs: string[], columns: ReadonlyMap<string, Column>, task: ContextTask): StageOutput {
+export function fitStageInContext(stage: Stage<unknown, Json>, config: unknown, inputs: string[], columns: ReadonlyMap<string, Column>, task: ContextTask): StageOutput {
   const { context } = task;
   const nRows = task.target.length;
   const fitOn = (rows: Uint32Array, tag: string): Json =>
