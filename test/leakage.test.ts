@@ -28,6 +28,12 @@ const FEATURE_SETS: Record<string, string> = {
   forest-leaves: {trees: 5, max_depth: 12, min_leaf: 1, smoothing: 0}`,
   select: `  rate-encode: {smoothing: 1}
   select: {keep: 2, trees: 10}`,
+  // `serial` is a unique-per-row numeric key: one-row leaves without smoothing would memorise it
+  'tree-bins, leaf-z, summaries, transforms': `  rate-encode: {smoothing: 1}
+  transforms: {}
+  tree-bins: {max_depth: 8, min_leaf: 1, smoothing: 0}
+  leaf-z: {}
+  summaries: {}`,
 };
 
 describe('leakage canary', () => {
