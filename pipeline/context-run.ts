@@ -13,6 +13,7 @@ import type { Json, Learner, Stage } from '../stages/types.js';
 import { learnerRegistry, stageRegistry } from '../stages/index.js';
 import { stageKey, learnerKey } from './keys.js';
 import { balanceRows, priorCorrect } from '../stages/balance.js';
+import { StackPassthroughConfigError } from '../stages/stack.js';
 
 export interface ContextSpec {
   readonly name: string;
@@ -48,6 +49,8 @@ export interface ContextTask {
   readonly cacheDir: string;
   /** Keep fitted states and models in the result (the final context: they go to the bundle). */
   readonly keepStates: boolean;
+  /** `stack.passthrough`: learner feature columns whose apply-row values go to the stack (absent = none). */
+  readonly stackPassthrough?: readonly string[];
 }
 
 export interface StepFailureInfo {
@@ -85,6 +88,8 @@ export interface ContextResult {
   readonly learnerFeatures: string[][];
   /** With `keepStates`: per learner, the balance sample's (tau, ybar) its predictions were corrected with, or null. */
   readonly learnerPriors: ({ tau: number; ybar: number } | null)[];
+  /** Per `stackPassthrough` column, its (post-impute) values on the apply rows in ascending row order. */
+  readonly passthrough: Map<string, Float64Array>;
 }
 
 interface StageOutput {
@@ -144,6 +149,7 @@ export function runContext(task: ContextTask): ContextResult {
   const dropped = available.filter((n) => mustGet(columns, n).type !== 'numeric');
   available = available.filter((n) => mustGet(columns, n).type === 'numeric');
   const features = available.map((n) => (mustGet(columns, n) as NumericColumn).values);
+  const passthrough = atStep(`stack-passthrough@${context.name}`, () => passthroughValues(task.stackPassthrough ?? [], available, features, context.apply));
   const rawNames = beforeImpute?.names ?? available;
   const rawFeatures = beforeImpute?.values ?? features;
   const predictions = new Map<string, Float64Array>();
@@ -188,7 +194,20 @@ export function runContext(task: ContextTask): ContextResult {
       learnerPriors.push(sample ? { tau: sample.tau, ybar: sample.ybar } : null);
     }
   }
-  return { context: context.name, steps, predictions, learnerKeys, states, models, featureNames: available, dropped, stageInputs, learnerFeatures, learnerPriors };
+  return { context: context.name, steps, predictions, learnerKeys, states, models, featureNames: available, dropped, stageInputs, learnerFeatures, learnerPriors, passthrough };
+}
+
+/** The stack's passthrough columns on the apply rows, read from the learners' (post-impute) features so they hold no NaN. */
+function passthroughValues(names: readonly string[], available: readonly string[], features: readonly Float64Array[], apply: Uint32Array): Map<string, Float64Array> {
+  const out = new Map<string, Float64Array>();
+  for (const name of names) {
+    const j = available.indexOf(name);
+    if (j < 0) throw new StackPassthroughConfigError(name, available);
+    const v = new Float64Array(apply.length);
+    for (let i = 0; i < apply.length; i++) v[i] = features[j][apply[i]];
+    out.set(name, v);
+  }
+  return out;
 }
 
 /** Fit one stage in a context, cross-fitting it when it reads the target. Outputs cover the context's rows. */
