@@ -53,7 +53,13 @@ export interface RunOutcome {
 export interface Metrics {
   readonly oof: Record<string, MetricSet>;
   readonly holdout: Record<string, MetricSet>;
-  readonly stack: { readonly weights: Record<string, number>; readonly intercept: number; readonly nonnegative: boolean };
+  readonly stack: {
+    readonly weights: Record<string, number>;
+    readonly intercept: number;
+    readonly nonnegative: boolean;
+    /** `stack.passthrough` columns: weight per standardized unit, and the fit rows' mean and sd (absent in older runs). */
+    readonly passthrough?: Record<string, { readonly weight: number; readonly mean: number; readonly sd: number }>;
+  };
   readonly stages: Record<string, Json>;
   /** Selection rates by protected group at the budget cut, on the holdout rows (absent in older runs). */
   readonly disparity?: DisparityTable;
@@ -147,6 +153,7 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
             dataKey,
             cacheDir: opts.cacheDir,
             keepStates: context.name === 'final',
+            stackPassthrough: config.stack.passthrough,
           };
           const r = await pool.run(task);
           done++;
@@ -162,13 +169,14 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
     checkpoint();
     const byName = new Map(results.map((r) => [r.context, r]));
     const learnerNames = plan.learners.map((l) => l.name);
-    const { oofPreds, holdPreds } = assemblePredictions(plan, byName, learnerNames, frame.nRows);
+    const { oof: oofPreds, hold: holdPreds } = assembleByContext(plan, byName, learnerNames, frame.nRows, (r) => r.predictions, 'predictions');
+    const passthrough = assembleByContext(plan, byName, config.stack.passthrough, frame.nRows, (r) => r.passthrough, 'passthrough values');
 
     const steps: StepRecord[] = plan.contexts.flatMap((c) => byName.get(c.name)?.steps ?? []);
     const stackKey = hashOf('stack', canonical(config.stack), ...plan.contexts.flatMap((c) => learnerNames.map((n) => byName.get(c.name)?.learnerKeys.get(n) ?? '')));
     const tStack = performance.now();
     const cachedBlend = cache.get(stackKey);
-    const blend = cachedBlend ? decodeBlend(cachedBlend) : blendAndStore(cache, stackKey, plan, learnerNames, oofPreds, holdPreds, frame.target, config);
+    const blend = cachedBlend ? decodeBlend(cachedBlend) : blendAndStore(cache, stackKey, plan, learnerNames, oofPreds, holdPreds, passthrough, frame.target, config);
     steps.push({ step: 'stack', key: stackKey, hit: cachedBlend !== undefined, seconds: (performance.now() - tStack) / 1000 });
     say(`stack weights: ${learnerNames.map((n, i) => `${n} ${blend.model.weights[i].toFixed(3)}`).join(', ')}`);
 
@@ -300,37 +308,41 @@ function countEvents(target: Uint8Array): number {
   return e;
 }
 
-/** Full-length prediction arrays (NaN where a row has no prediction of that kind). */
-function assemblePredictions(plan: Plan, byName: ReadonlyMap<string, ContextResult>, learners: readonly string[], nRows: number) {
-  const oofPreds = learners.map(() => new Float64Array(nRows).fill(NaN));
-  const holdPreds = learners.map(() => new Float64Array(nRows).fill(NaN));
+/**
+ * Full-length arrays of per-context apply-row values (learner predictions, stack passthrough
+ * columns): dev rows from the outer fold contexts, holdout rows from the final one; NaN elsewhere.
+ */
+function assembleByContext(plan: Plan, byName: ReadonlyMap<string, ContextResult>, names: readonly string[], nRows: number, pick: (r: ContextResult) => ReadonlyMap<string, Float64Array>, what: string) {
+  const oof = names.map(() => new Float64Array(nRows).fill(NaN));
+  const hold = names.map(() => new Float64Array(nRows).fill(NaN));
   for (const ctx of plan.contexts) {
     const r = byName.get(ctx.name);
     if (!r) throw new Error(`internal: context ${ctx.name} did not run`);
-    const into = ctx.name === 'final' ? holdPreds : oofPreds;
-    learners.forEach((name, j) => {
-      const p = r.predictions.get(name);
-      if (!p) throw new Error(`internal: learner ${name} has no predictions in ${ctx.name}`);
+    const into = ctx.name === 'final' ? hold : oof;
+    names.forEach((name, j) => {
+      const p = pick(r).get(name);
+      if (!p) throw new Error(`internal: ${name} has no ${what} in ${ctx.name}`);
       for (let i = 0; i < ctx.apply.length; i++) into[j][ctx.apply[i]] = p[i];
     });
   }
-  return { oofPreds, holdPreds };
+  return { oof, hold };
 }
 
 const STACK_L2 = 1;
 
-function blendAndStore(cache: Cache, key: string, plan: Plan, names: readonly string[], oof: Float64Array[], hold: Float64Array[], target: Uint8Array, config: ResolvedConfig): BlendResult {
+function blendAndStore(cache: Cache, key: string, plan: Plan, names: readonly string[], oof: Float64Array[], hold: Float64Array[], passthrough: { oof: Float64Array[]; hold: Float64Array[] }, target: Uint8Array, config: ResolvedConfig): BlendResult {
   const opts = { nonnegative: config.stack.nonnegative, l2: STACK_L2 };
-  const model = fitStack(names, oof, plan.split.dev, target, opts);
-  const holdout = applyStack(model, hold, plan.split.holdout);
+  const extra = { names: config.stack.passthrough, values: passthrough.oof };
+  const model = fitStack(names, oof, plan.split.dev, target, opts, extra);
+  const holdout = applyStack(model, hold, plan.split.holdout, passthrough.hold);
   // The stack's own out-of-fold estimate: refit it over the OOF matrix with the same outer folds.
   const nRows = target.length;
   const full = new Float64Array(nRows).fill(NaN);
   for (let k = 0; k < plan.split.folds; k++) {
     const fitRows = foldRows(plan.split.dev, plan.split.devFold, k, false);
     const applyRows = foldRows(plan.split.dev, plan.split.devFold, k, true);
-    const m = fitStack(names, oof, fitRows, target, opts);
-    const p = applyStack(m, oof, applyRows);
+    const m = fitStack(names, oof, fitRows, target, opts, extra);
+    const p = applyStack(m, oof, applyRows, passthrough.oof);
     for (let i = 0; i < applyRows.length; i++) full[applyRows[i]] = p[i];
   }
   const stackOof = new Float64Array(plan.split.dev.length);
@@ -376,7 +388,10 @@ function evaluateAll(config: ResolvedConfig, plan: Plan, names: readonly string[
   names.forEach((n, j) => (weights[n] = blend.model.weights[j]));
   const stages: Record<string, Json> = {};
   for (const r of reports) if (r.report.metrics !== undefined) stages[r.kind] = r.report.metrics;
-  return { oof: oofM, holdout: holdM, stack: { weights, intercept: blend.model.intercept, nonnegative: blend.model.nonnegative }, stages };
+  const passthrough: Record<string, { weight: number; mean: number; sd: number }> = {};
+  const pt = blend.model.passthrough;
+  pt?.names.forEach((n, j) => (passthrough[n] = { weight: pt.weights[j], mean: pt.means[j], sd: pt.sds[j] }));
+  return { oof: oofM, holdout: holdM, stack: { weights, intercept: blend.model.intercept, nonnegative: blend.model.nonnegative, passthrough }, stages };
 }
 
 function disparityOf(frame: Frame, budget: number, plan: Plan, metrics: Metrics, blend: BlendResult): Pick<Metrics, 'disparity' | 'disparity_oof'> {

@@ -66,7 +66,7 @@ export function buildBundle(src: BundleSource): Bundle {
   });
   const frame = src.frame;
   const columns: BundleColumn[] = [...frame.columns.values()].map((c) => ({ name: c.name, role: frame.roles.get(c.name) ?? 'feature', type: c.type }));
-  const consumed = new Set([...stages.flatMap((s) => s.inputs), ...learners.flatMap((l) => l.features)]);
+  const consumed = new Set([...stages.flatMap((s) => s.inputs), ...learners.flatMap((l) => l.features), ...(src.stack.passthrough?.names ?? [])]);
   const required = columns.filter((c) => consumed.has(c.name)).map((c) => c.name);
 
   const dev = gatherColumns(frame, required, src.devRows);

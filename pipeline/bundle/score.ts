@@ -64,7 +64,13 @@ export function scoreColumns(spec: ScoringSpec, inputs: ReadonlyMap<string, Colu
     const p = learner.predict(l.model, features, rows);
     return l.prior_correction ? priorCorrect(p, l.prior_correction.tau, l.prior_correction.ybar) : p;
   });
-  const score = applyStack(spec.stack, predictions, rows);
+  // Read after impute, as the run's contexts read them (pipeline/context-run.ts), so no NaN reaches the stack.
+  const passthrough = (spec.stack.passthrough?.names ?? []).map((name) => {
+    const c = columns.get(name);
+    if (!c || c.type !== 'numeric') throw new BundleError(file, `the stack reads ${name}, which the stage chain did not produce as a number`, 'the bundle does not match this code; re-run the config', EXIT.config);
+    return c.values;
+  });
+  const score = applyStack(spec.stack, predictions, rows, passthrough);
   return { score, columns, predictions };
 }
 

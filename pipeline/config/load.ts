@@ -19,7 +19,7 @@ interface RawConfig {
   learners: Map<string, Record<string, unknown>>;
   exclude: Record<string, unknown>[];
   balance?: { ratio: number };
-  stack: { nonnegative: boolean };
+  stack: { nonnegative: boolean; passthrough: string[] };
   evaluate: { budget: number; budgets?: number[] };
   promote: { metric: PromoteConfig['metric']; min_gain: number; max_p: number };
 }

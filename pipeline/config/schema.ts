@@ -110,6 +110,13 @@ export const configSchema = object('A foldstack pipeline: the data, how rows are
   stack: optional(
     object('The logistic blend of the base learners\' out-of-fold predictions.', {
       nonnegative: optional(boolean('Constrain blend weights to be ≥ 0.'), true),
+      passthrough: optional(
+        arrayOf(
+          nonEmpty('A numeric learner feature column (after impute), e.g. a `summaries` output such as z_mean.'),
+          'Extra stack inputs besides the learners\' logits, standardized inside the stack and never bound by `nonnegative`; their values are out-of-fold like the learners\' predictions.',
+        ),
+        [],
+      ),
     }),
   ),
   evaluate: optional(

@@ -47,7 +47,8 @@ export interface ResolvedConfig {
   exclude: ExclusionRule[];
   /** Downsampling inside each learner fit; null = off. */
   balance: { ratio: number } | null;
-  stack: { nonnegative: boolean };
+  /** `passthrough`: learner feature columns fed to the stack beside the learners' logits. */
+  stack: { nonnegative: boolean; passthrough: string[] };
   /** `budgets` is ascending, distinct, and always contains `budget`. */
   evaluate: { budget: number; budgets: number[] };
   promote: PromoteConfig;
