@@ -215,6 +215,30 @@ function meanLogLoss(margin: Float64Array, y: Uint8Array, rows: Uint32Array): nu
   return rows.length > 0 ? s / rows.length : 0;
 }
 
+/**
+ * Gradients and hessians of the log loss at local rows, and the rows' mean log loss, in one
+ * pass sharing one exp per row: the loss after round t is taken from the same margins the
+ * gradients of round t + 1 need. With e = exp(−|m|): p = 1/(1+e) or e/(1+e), p(1−p) =
+ * e/(1+e)², and the loss is softplus(±m) = max(±m, 0) + log1p(e).
+ */
+function gradientsAndLoss(margin: Float64Array, y: Uint8Array, rows: Uint32Array, grad: Float64Array, hess: Float64Array): number {
+  let s = 0;
+  for (let i = 0; i < rows.length; i++) {
+    const r = rows[i];
+    const m = margin[r];
+    const e = Math.exp(m >= 0 ? -m : m);
+    const q = 1 / (1 + e);
+    const pr = m >= 0 ? q : e * q;
+    const h = e * q * q;
+    const yr = y[r];
+    grad[r] = pr - yr;
+    hess[r] = h > MIN_HESS ? h : MIN_HESS;
+    const z = yr === 1 ? -m : m;
+    s += (z > 0 ? z : 0) + Math.log1p(e);
+  }
+  return rows.length > 0 ? s / rows.length : 0;
+}
+
 function fitBoosted({ features, names, rows, target, config, rng }: LearnerFitInput<BoostedConfig>): BoostedModel {
   if (features.length !== names.length) throw new BoostedInputError(`${features.length} feature columns but ${names.length} names`, names.length, features.length);
   const n = rows.length;
@@ -251,6 +275,8 @@ function fitBoosted({ features, names, rows, target, config, rng }: LearnerFitIn
   const grad = new Float64Array(n);
   const hess = new Float64Array(n);
   const sample = new Uint32Array(boost.length);
+  const unsampled = new Uint32Array(boost.length);
+  const leafOf = new Int32Array(n);
   const perm = Int32Array.from({ length: p }, (_, c) => c);
   const nCols = Math.max(1, Math.round(config.colsample * p));
 
@@ -261,35 +287,39 @@ function fitBoosted({ features, names, rows, target, config, rng }: LearnerFitIn
     leafValue: 'newton',
   };
   const trees: FlatTreeJson[] = [];
-  const trainLoss: number[] = [meanLogLoss(margin, y, boost)];
+  const trainLoss: number[] = [gradientsAndLoss(margin, y, boost, grad, hess)];
   const validLoss: number[] = useValid ? [meanLogLoss(margin, y, valid)] : [];
   let bestLoss = useValid ? validLoss[0] : Infinity;
   let bestRound = 0;
 
   for (let t = 0; t < config.rounds; t++) {
-    for (let i = 0; i < boost.length; i++) {
-      const r = boost[i];
-      const pr = 1 / (1 + Math.exp(-margin[r]));
-      grad[r] = pr - y[r];
-      const h = pr * (1 - pr);
-      hess[r] = h > MIN_HESS ? h : MIN_HESS;
-    }
     let m = 0;
+    let u = 0;
     if (config.subsample < 1) {
-      for (let i = 0; i < boost.length; i++) if (rng.next() < config.subsample) sample[m++] = boost[i];
+      for (let i = 0; i < boost.length; i++) {
+        if (rng.next() < config.subsample) sample[m++] = boost[i];
+        else unsampled[u++] = boost[i];
+      }
     }
     // An empty draw (tiny data) would give a tree with no rows; fall back to every boosting row.
     if (m === 0) {
       sample.set(boost);
       m = boost.length;
+      u = 0;
     }
     const candidates = drawColumns(perm, nCols, rng);
-    const tree = growTree({ codes, nBins, thresholds: edges, grad, hess, rows: sample.subarray(0, m) }, { ...opts, candidates });
+    const grown = sample.subarray(0, m);
+    const tree = growTree({ codes, nBins, thresholds: edges, grad, hess, rows: grown, leafOf }, { ...opts, candidates });
     const value = tree.value;
     for (let k = 0; k < value.length; k++) value[k] *= config.learning_rate;
-    addLeafValuesBinned(tree, codes, boost, margin);
+    // rows the tree was grown on already know their leaf; only the rest are run through it
+    for (let i = 0; i < m; i++) {
+      const r = grown[i];
+      margin[r] += value[leafOf[r]];
+    }
+    addLeafValuesBinned(tree, codes, unsampled.subarray(0, u), margin);
     trees.push(treeToJson(tree));
-    trainLoss.push(meanLogLoss(margin, y, boost));
+    trainLoss.push(gradientsAndLoss(margin, y, boost, grad, hess));
     if (!useValid) continue;
     addLeafValuesBinned(tree, codes, valid, margin);
     const loss = meanLogLoss(margin, y, valid);

@@ -35,6 +35,11 @@ export interface GrowData {
   readonly hess: Float64Array;
   /** Local rows to grow on; a row may repeat (bootstrap). */
   readonly rows: Uint32Array;
+  /**
+   * When given, leafOf[r] is set to the leaf reached by every local row r in `rows`, so a caller
+   * that keeps running predictions (boosting) need not run those rows through the tree again.
+   */
+  readonly leafOf?: Int32Array;
 }
 
 export type LeafValue = 'ratio' | 'newton';
@@ -105,6 +110,10 @@ export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
   const perSplit = Math.min(opts.featuresPerSplit ?? nCand, nCand);
   const drawn = new Int32Array(cand);
   const lambda = opts.split.lambda;
+  const leafOf = data.leafOf;
+  const markLeaf = (id: number, start: number, end: number): void => {
+    if (leafOf) for (let i = start; i < end; i++) leafOf[order[i]] = id;
+  };
 
   const order = Uint32Array.from(data.rows);
   const scratch = new Uint32Array(order.length);
@@ -132,6 +141,7 @@ export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
     for (const node of level) {
       const n = node.end - node.start;
       if (depth >= opts.maxDepth || n < opts.minSplit) {
+        markLeaf(node.id, node.start, node.end);
         release(node.hist);
         continue;
       }
@@ -140,6 +150,7 @@ export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
       if (sampled) accumulate(node.hist, layout, data.codes, cols, nUse, order, node.start, node.end, grad, hess);
       findBestSplit(node.hist, layout, cols, nUse, nodes.grad[node.id], nodes.hess[node.id], n, opts.split, best);
       if (best.feature < 0) {
+        markLeaf(node.id, node.start, node.end);
         release(node.hist);
         continue;
       }
@@ -154,6 +165,8 @@ export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
       const edges = data.thresholds[f];
       nodes.setSplit(node.id, f, best.bin, best.bin < edges.length ? edges[best.bin] : Infinity, data.nBins[f], best.missingLeft, leftId, rightId);
       if (depth + 1 >= opts.maxDepth) {
+        markLeaf(leftId, node.start, mid);
+        markLeaf(rightId, mid, node.end);
         release(node.hist);
         continue;
       }
