@@ -159,7 +159,7 @@ describe('good configs', () => {
     expect(cfg.split).toEqual({ folds: 5, innerFolds: 5, holdout: { type: 'fraction', fraction: 0.2 } });
     expect(cfg.features).toEqual(new Map([['rate-encode', { smoothing: 20 }]]));
     expect(cfg.learners).toEqual(new Map([['lr', { kind: 'logistic', options: { l2: 1, max_iter: 100, tol: 1e-10 } }]]));
-    expect(cfg.stack).toEqual({ nonnegative: true });
+    expect(cfg.stack).toEqual({ nonnegative: true, passthrough: [] });
     expect(cfg.evaluate).toEqual({ budget: 0.1, budgets: [0.1] });
   });
 
@@ -185,7 +185,7 @@ describe('good configs', () => {
     expect(cfg.features.get('summaries')).toEqual({ high_z: 1 });
     expect([...cfg.learners.keys()]).toEqual(['lr_strong', 'lr_weak']);
     expect(cfg.learners.get('lr_strong')).toEqual({ kind: 'logistic', options: { max_iter: 200, l2: 10, tol: 1e-10 } });
-    expect(cfg.stack).toEqual({ nonnegative: false });
+    expect(cfg.stack).toEqual({ nonnegative: false, passthrough: [] });
     expect(cfg.evaluate).toEqual({ budget: 0.1, budgets: [0.05, 0.1, 0.2] });
   });
 
