@@ -41,6 +41,7 @@ function peerAvailable(): boolean {
   return spawnSync(python, ['-c', 'import sklearn, xgboost, pandas, scipy'], { stdio: 'ignore' }).status === 0;
 }
 
+/** The same pipeline as the peer: encodings, per-column trees, z-scores, summaries, dates; LR, CART, forest, boosted trees; stack. */
 function benchConfig(csv: string): string {
   return `name: bench
 seed: ${SEED}
@@ -52,13 +53,16 @@ data:
   columns: {applied_on: date, registered_on: date, owner_age_band: protected}
 split: {folds: 5, holdout: {fraction: 0.2}}
 features:
-  dates: {as_of: applied_on, pairs: [[registered_on, applied_on]]}
+  dates: {pairs: [[registered_on, applied_on]]}
   rate-encode: {smoothing: 20}
-  tree-bins: {max_depth: 3, min_leaf: 0.05}
+  tree-bins: {max_depth: 3, min_leaf: 0.05, smoothing: 20}
   leaf-z: {}
   summaries: {}
 learners:
   lr: {kind: logistic, l2: 1.0}
+  cart: {kind: tree, max_depth: 6, min_leaf: 50}
+  rf: {kind: forest, trees: 200, max_depth: 8, min_leaf: 20}
+  gbm: {kind: boosted, rounds: 300, max_depth: 5, learning_rate: 0.05, subsample: 0.8, colsample: 0.8, early_stop: {rounds: 0}}
 stack: {nonnegative: true}
 evaluate: {budget: 0.1}
 `;
