@@ -34,9 +34,10 @@ export function histogramLayout(nBins: Int32Array): HistogramLayout {
  * Direct accumulation over the rows order[start..end) for the columns cols[0..nCols).
  * Zeroes those columns' slots first; other columns are left untouched.
  *
- * Columns go four at a time so that each row's index, gradient and hessian are loaded once per
- * four columns rather than once per column: those loads are scattered (rows of a node are not
- * contiguous), and they dominated boosting time when done per column.
+ * Columns go eight (then four) at a time so that each row's index, gradient and hessian are
+ * loaded once per block of columns rather than once per column: those loads are scattered
+ * (rows of a node are not contiguous), and they dominated boosting time when done per column.
+ * Eight at a time measured ~7% faster than four on 160k rows × 24 columns.
  */
 export function accumulate(
   hist: Float64Array,
@@ -56,6 +57,61 @@ export function accumulate(
     hist.fill(0, base, base + (layout.nBins[c] + 1) * STATS);
   }
   let k = 0;
+  for (; k + 8 <= nCols; k += 8) {
+    const b0 = layout.offset[cols[k]] * STATS;
+    const b1 = layout.offset[cols[k + 1]] * STATS;
+    const b2 = layout.offset[cols[k + 2]] * STATS;
+    const b3 = layout.offset[cols[k + 3]] * STATS;
+    const b4 = layout.offset[cols[k + 4]] * STATS;
+    const b5 = layout.offset[cols[k + 5]] * STATS;
+    const b6 = layout.offset[cols[k + 6]] * STATS;
+    const b7 = layout.offset[cols[k + 7]] * STATS;
+    const x0 = codes[cols[k]];
+    const x1 = codes[cols[k + 1]];
+    const x2 = codes[cols[k + 2]];
+    const x3 = codes[cols[k + 3]];
+    const x4 = codes[cols[k + 4]];
+    const x5 = codes[cols[k + 5]];
+    const x6 = codes[cols[k + 6]];
+    const x7 = codes[cols[k + 7]];
+    for (let i = start; i < end; i++) {
+      const r = order[i];
+      const g = grad[r];
+      const h = hess[r];
+      let at = b0 + x0[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b1 + x1[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b2 + x2[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b3 + x3[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b4 + x4[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b5 + x5[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b6 + x6[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b7 + x7[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+    }
+  }
   for (; k + 4 <= nCols; k += 4) {
     const c0 = cols[k];
     const c1 = cols[k + 1];
