@@ -13,7 +13,7 @@
  * the base rate. `base_score` overrides it (0.5 reproduces XGBoost ≤ 1.7's default).
  */
 import { allocCodes, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, type BinCodes } from '../core/tree/bin.js';
-import { growTree, type GrowOptions } from '../core/tree/grow.js';
+import { growTree, GrowWorkspace, type GrowOptions } from '../core/tree/grow.js';
 import { addLeafValuesBinned, leafIndexRaw, treeFromJson, treeToJson, type FlatTreeJson } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput, Rng } from '../types.js';
 
@@ -277,6 +277,7 @@ function fitBoosted({ features, names, rows, target, config, rng }: LearnerFitIn
   const sample = new Uint32Array(boost.length);
   const unsampled = new Uint32Array(boost.length);
   const leafOf = new Int32Array(n);
+  const workspace = new GrowWorkspace();
   const perm = Int32Array.from({ length: p }, (_, c) => c);
   const nCols = Math.max(1, Math.round(config.colsample * p));
 
@@ -309,7 +310,7 @@ function fitBoosted({ features, names, rows, target, config, rng }: LearnerFitIn
     }
     const candidates = drawColumns(perm, nCols, rng);
     const grown = sample.subarray(0, m);
-    const tree = growTree({ codes, nBins, thresholds: edges, grad, hess, rows: grown, leafOf }, { ...opts, candidates });
+    const tree = growTree({ codes, nBins, thresholds: edges, grad, hess, rows: grown, leafOf, workspace }, { ...opts, candidates });
     const value = tree.value;
     for (let k = 0; k < value.length; k++) value[k] *= config.learning_rate;
     // rows the tree was grown on already know their leaf; only the rest are run through it
