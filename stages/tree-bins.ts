@@ -58,7 +58,7 @@ const KEYS = new Set(Object.keys(DEFAULTS));
 
 export const treeBins: Stage<TreeBinsConfig, TreeBinsState> = {
   kind: 'tree-bins',
-  version: 1,
+  version: 2,
   supervised: true,
   replacesInputs: false,
 

@@ -1,12 +1,17 @@
 /**
  * A one-column Gini tree turned into ordered intervals: the building block of tree binning.
- * Because the tree sees a single column, its leaves read left to right are adjacent intervals
- * (lower, upper] of that column, and every node's rows form one such interval.
+ * Because the tree sees a single column, every node's rows form one interval (lower, upper] of
+ * that column, and its leaves read left to right are adjacent intervals. That lets the tree be
+ * grown on the sorted distinct values directly — two native sorts and prefix sums, no
+ * histograms — with every threshold exactly where a tree on the raw values puts it (the midpoint
+ * between neighbouring distinct values, as scikit-learn and rpart do).
+ *
+ * The split rules are those of `split.ts` for the Gini criterion (same gain arithmetic on the same
+ * integer sums, a strictly positive gain, the lowest threshold on ties, a minimum row count per
+ * child, no split of a pure node), so the result is the tree `growTree` grows on exact bins.
  */
-import { allocCodes, binThresholds, encodeNumeric, fitNumericBins, MAX_UINT16_BINS, valueBinCount } from './bin.js';
-import { growTree } from './grow.js';
+import { midpoint } from './bin.js';
 import { trendDirection, type Direction } from './monotone.js';
-import type { FlatTree } from './predict.js';
 
 export interface IntervalBins {
   /** Ascending cut points; bin k holds (thresholds[k−1], thresholds[k]]. */
@@ -29,66 +34,84 @@ export interface UnivariateTreeParams {
   readonly minLeafCount: number;
 }
 
-/**
- * Fits a Gini tree on x (rows with a missing x must already be left out of `rows`). Values are
- * binned exactly (one bin per distinct value) up to 65,535 distinct values, so the thresholds are
- * the midpoints a tree on the raw values would choose; beyond that, quantile bins (and the
- * trend is then measured on those bins, ties within a bin sharing their rank).
- */
+/** Weight-times-Gini impurity 2·e·(n−e)/n, as in split.ts. */
+function giniMass(e: number, n: number): number {
+  return n > 0 ? (2 * e * (n - e)) / n : 0;
+}
+
+/** Fits a Gini tree on x; rows with a missing x must already be left out of `rows`. */
 export function fitIntervalTree(x: Float64Array, y: Uint8Array, rows: Uint32Array, p: UnivariateTreeParams): IntervalTree {
   const n = rows.length;
   if (n === 0) return { bins: { thresholds: [], n: [0], events: [0] }, trend: null };
-  const mapper = fitNumericBins(x, rows, MAX_UINT16_BINS);
-  const nb = valueBinCount(mapper);
-  const codes = allocCodes(n, nb);
-  encodeNumeric(mapper, x, rows, codes);
-  const grad = new Float64Array(n);
-  const hess = new Float64Array(n).fill(1);
-  const perBinN = new Float64Array(nb);
-  const perBinEv = new Float64Array(nb);
-  for (let i = 0; i < n; i++) {
-    grad[i] = y[rows[i]];
-    perBinN[codes[i]]++;
-    perBinEv[codes[i]] += grad[i];
+  let nEv = 0;
+  for (let i = 0; i < n; i++) nEv += y[rows[i]];
+  const all = new Float64Array(n);
+  const ev = new Float64Array(nEv);
+  for (let i = 0, k = 0; i < n; i++) {
+    const v = x[rows[i]];
+    all[i] = v;
+    if (y[rows[i]] === 1) ev[k++] = v;
   }
-  const tree = growTree(
-    {
-      codes: [codes],
-      nBins: Int32Array.of(nb),
-      thresholds: [binThresholds(mapper)],
-      grad,
-      hess,
-      rows: Uint32Array.from({ length: n }, (_, i) => i),
-    },
-    {
-      maxDepth: p.maxDepth,
-      minSplit: 2,
-      split: { criterion: 'gini', minLeafCount: p.minLeafCount, minLeafHess: 0, minGain: 0, lambda: 0 },
-      leafValue: 'ratio',
-    },
-  );
-  return { bins: leavesInOrder(tree), trend: trendDirection(perBinN, perBinEv) };
-}
-
-/** In-order walk: leaves left to right, with the split thresholds between them. */
-export function leavesInOrder(tree: FlatTree): IntervalBins {
-  const out: IntervalBins = { thresholds: [], n: [], events: [] };
-  const stack: number[] = [0];
-  const visited = new Uint8Array(tree.nNodes);
-  while (stack.length > 0) {
-    const node = stack[stack.length - 1];
-    if (tree.feature[node] < 0) {
-      stack.pop();
-      out.n.push(tree.count[node]);
-      out.events.push(tree.gradSum[node]);
-    } else if (!visited[node]) {
-      visited[node] = 1;
-      stack.push(tree.left[node]);
-    } else {
-      stack.pop();
-      out.thresholds.push(tree.threshold[node]);
-      stack.push(tree.right[node]);
+  all.sort();
+  ev.sort();
+  // Distinct values with their row and event counts, as prefix sums over the sorted values.
+  const values = new Float64Array(n);
+  const cumN = new Float64Array(n + 1);
+  const cumE = new Float64Array(n + 1);
+  let d = 0;
+  for (let i = 0, j = 0; i < n; d++) {
+    const v = all[i];
+    let c = 0;
+    while (i < n && all[i] === v) {
+      c++;
+      i++;
     }
+    let e = 0;
+    while (j < nEv && ev[j] === v) {
+      e++;
+      j++;
+    }
+    values[d] = v;
+    cumN[d + 1] = cumN[d] + c;
+    cumE[d + 1] = cumE[d] + e;
   }
-  return out;
+  const out: { thresholds: number[]; n: number[]; events: number[] } = { thresholds: [], n: [], events: [] };
+  const minN = p.minLeafCount;
+  const grow = (lo: number, hi: number, depth: number): void => {
+    const N = cumN[hi] - cumN[lo];
+    const E = cumE[hi] - cumE[lo];
+    let bestK = -1;
+    if (depth < p.maxDepth && N >= 2 && E > 0 && E < N) {
+      const parent = -giniMass(E, N);
+      let best = 0;
+      for (let k = lo; k < hi - 1; k++) {
+        const ln = cumN[k + 1] - cumN[lo];
+        const rn = N - ln;
+        if (ln < minN) continue;
+        if (rn < minN) break;
+        const le = cumE[k + 1] - cumE[lo];
+        const gain = -giniMass(le, ln) + -giniMass(E - le, rn) - parent;
+        if (gain > best) {
+          best = gain;
+          bestK = k;
+        }
+      }
+    }
+    if (bestK < 0) {
+      out.n.push(N);
+      out.events.push(E);
+      return;
+    }
+    grow(lo, bestK + 1, depth + 1);
+    out.thresholds.push(midpoint(values[bestK], values[bestK + 1]));
+    grow(bestK + 1, hi, depth + 1);
+  };
+  grow(0, d, 0);
+  const perN = new Float64Array(d);
+  const perE = new Float64Array(d);
+  for (let k = 0; k < d; k++) {
+    perN[k] = cumN[k + 1] - cumN[k];
+    perE[k] = cumE[k + 1] - cumE[k];
+  }
+  return { bins: out, trend: trendDirection(perN, perE) };
 }
