@@ -119,7 +119,7 @@ export function runComponents(outDir: string, python: string | undefined, n = 20
     else lines.push(`component peer failed: ${r.stderr.trim().split('\n').pop()}`);
   }
   const label: Record<string, string> = {
-    trees: `per-column trees (depth 3, min leaf 5%) on ${n} × ${p}`,
+    trees: `per-column trees (depth 3, min leaf 5%) on ${nTrain} × ${p}`,
     forest: `forest (200 trees, depth 8, min leaf 20) on ${nTrain} × ${p}`,
     boosted: `boosted (300 rounds, depth 5, eta 0.05, hist) on ${nTrain} × ${p}`,
   };
