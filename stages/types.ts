@@ -4,7 +4,7 @@
  */
 import type { Column, FrameView } from '../pipeline/frame.js';
 
-/** A deterministic pseudo-random source handed to a stage; never Math.random. */
+/** A deterministic pseudo-random source handed to a stage; never an unseeded global generator. */
 export interface Rng {
   /** Uniform in [0, 1). */
   next(): number;

@@ -8,7 +8,7 @@ import { EXIT } from '../errors.js';
 import { BUNDLE_FORMAT, type Bundle } from './types.js';
 import { BundleError } from './errors.js';
 import { checkRunnable } from './score.js';
-import { championFile, readChampion } from '../runs/champion.js';
+import { championFile, readChampion } from '../run-ledger/champion.js';
 
 export function bundlePathOf(run: string, runsDir: string): string {
   const candidates = [run, join(runsDir, run)];

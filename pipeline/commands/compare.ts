@@ -1,9 +1,9 @@
 import { resolve } from 'node:path';
 import { EXIT, FoldstackError, UsageError } from '../errors.js';
-import { readChampionRun } from '../runs/champion.js';
-import { compareRuns } from '../runs/compare.js';
-import { formatComparison } from '../runs/format.js';
-import { readHoldout, readRun, resolveRunRef } from '../runs/read.js';
+import { readChampionRun } from '../run-ledger/champion.js';
+import { compareRuns } from '../run-ledger/compare.js';
+import { formatComparison } from '../run-ledger/format.js';
+import { readHoldout, readRun, resolveRunRef } from '../run-ledger/read.js';
 import { stringOption } from './args.js';
 import type { Command } from './command.js';
 

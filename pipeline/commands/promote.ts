@@ -1,7 +1,7 @@
 import { resolve } from 'node:path';
 import { EXIT } from '../errors.js';
-import { championFile, writeChampion } from '../runs/champion.js';
-import { readRun, resolveRunRef } from '../runs/read.js';
+import { championFile, writeChampion } from '../run-ledger/champion.js';
+import { readRun, resolveRunRef } from '../run-ledger/read.js';
 import { onePositional, stringOption } from './args.js';
 import type { Command } from './command.js';
 

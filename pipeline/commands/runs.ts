@@ -1,7 +1,7 @@
 import { resolve } from 'node:path';
 import { EXIT, UsageError } from '../errors.js';
-import { listRuns } from '../runs/list.js';
-import { formatRunList } from '../runs/format.js';
+import { listRuns } from '../run-ledger/list.js';
+import { formatRunList } from '../run-ledger/format.js';
 import { stringOption } from './args.js';
 import type { Command } from './command.js';
 

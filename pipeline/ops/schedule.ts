@@ -10,7 +10,7 @@ import { Cron } from 'croner';
 import { loadConfig } from '../config/load.js';
 import { ConfigError } from '../config/errors.js';
 import { EXIT, FoldstackError, UsageError } from '../errors.js';
-import { promoteIfBetter } from '../runs/auto-promote.js';
+import { promoteIfBetter } from '../run-ledger/auto-promote.js';
 import { runUnderLock } from './locked-run.js';
 
 export interface ScheduleOptions {
