@@ -160,7 +160,7 @@ describe('bad configs fail cleanly', () => {
       expect(o.stderr.split('\n'), file).toHaveLength(3);
     }
     const missing = cli(['check', join(CORPUS, 'configs', 'missing-data-file.yaml')]);
-    expect(missing.code).not.toBe(0);
+    expect(missing.code).toBe(EXIT.data); // the same code `run` gives for a missing data file
     expect(missing.stderr).toMatch(/^error: .*no-such-file\.csv/);
   });
 });
