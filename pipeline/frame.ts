@@ -78,3 +78,10 @@ export function columnLength(c: Column): number {
       return c.days.length;
   }
 }
+
+/** A copy of `values` at `rows`, in `rows` order (for outputs and metrics, which need compact arrays). */
+export function gather<T extends Float64Array | Int32Array | Uint8Array>(values: T, rows: Uint32Array): T {
+  const out = new (values.constructor as new (n: number) => T)(rows.length);
+  for (let i = 0; i < rows.length; i++) out[i] = values[rows[i]];
+  return out;
+}

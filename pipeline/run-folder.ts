@@ -4,7 +4,7 @@
  */
 import { mkdirSync, renameSync, rmSync, writeFileSync, openSync, fsyncSync, closeSync, existsSync } from 'node:fs';
 import { join } from 'node:path';
-import type { Frame } from './frame.js';
+import { gather, type Frame } from './frame.js';
 import type { Plan } from './plan.js';
 import { writeCsvAtomic } from './io/csv-writer.js';
 
@@ -50,8 +50,8 @@ export class RunFolder {
     await writeCsvAtomic(this.path('oof.csv'), ['id', 'fold', 'target', ...learners, 'stack'], [
       Array.from(rows, (r) => frame.ids[r]),
       fold,
-      gatherU8(frame.target, rows),
-      ...preds.map((p) => gatherF64(p, rows)),
+      gather(frame.target, rows),
+      ...preds.map((p) => gather(p, rows)),
       stack,
     ]);
   }
@@ -61,8 +61,8 @@ export class RunFolder {
     const rows = plan.split.holdout;
     await writeCsvAtomic(this.path('holdout.csv'), ['id', 'target', ...learners, 'stack'], [
       Array.from(rows, (r) => frame.ids[r]),
-      gatherU8(frame.target, rows),
-      ...preds.map((p) => gatherF64(p, rows)),
+      gather(frame.target, rows),
+      ...preds.map((p) => gather(p, rows)),
       stack,
     ]);
   }
@@ -79,18 +79,6 @@ export class RunFolder {
   abandon(): void {
     rmSync(this.partial, { recursive: true, force: true });
   }
-}
-
-function gatherF64(values: Float64Array, rows: Uint32Array): Float64Array {
-  const out = new Float64Array(rows.length);
-  for (let i = 0; i < rows.length; i++) out[i] = values[rows[i]];
-  return out;
-}
-
-function gatherU8(values: Uint8Array, rows: Uint32Array): Uint8Array {
-  const out = new Uint8Array(rows.length);
-  for (let i = 0; i < rows.length; i++) out[i] = values[rows[i]];
-  return out;
 }
 
 function syncFile(p: string): void {

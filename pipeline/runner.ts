@@ -5,7 +5,7 @@
 import { performance } from 'node:perf_hooks';
 import { pino, type DestinationStream } from 'pino';
 import type { ResolvedConfig } from './config/types.js';
-import type { CategoricalColumn, Column, Frame } from './frame.js';
+import { gather, type CategoricalColumn, type Column, type Frame } from './frame.js';
 import { loadFrame } from './io/load.js';
 import { makePlan, type Plan } from './plan.js';
 import { ContextPool } from './pool.js';
@@ -259,18 +259,13 @@ function keepRows(frame: Frame, keep: Uint8Array): Frame {
   if (n === 0) throw new PlanError('the exclusion rules remove every row', 'check the exclude rules in the config');
   const rows = new Uint32Array(n);
   for (let i = 0, j = 0; i < keep.length; i++) if (keep[i]) rows[j++] = i;
-  const pick = <T extends Float64Array | Int32Array | Uint8Array>(a: T): T => {
-    const out = new (a.constructor as new (n: number) => T)(n);
-    for (let j = 0; j < n; j++) out[j] = a[rows[j]];
-    return out;
-  };
   const columns = new Map<string, Column>();
   for (const [name, c] of frame.columns) {
-    if (c.type === 'numeric') columns.set(name, { ...c, values: pick(c.values) });
-    else if (c.type === 'date') columns.set(name, { ...c, days: pick(c.days) });
-    else columns.set(name, { ...c, codes: pick(c.codes) });
+    if (c.type === 'numeric') columns.set(name, { ...c, values: gather(c.values, rows) });
+    else if (c.type === 'date') columns.set(name, { ...c, days: gather(c.days, rows) });
+    else columns.set(name, { ...c, codes: gather(c.codes, rows) });
   }
-  return { ...frame, nRows: n, columns, target: pick(frame.target), ids: Array.from(rows, (r) => frame.ids[r]) };
+  return { ...frame, nRows: n, columns, target: gather(frame.target, rows), ids: Array.from(rows, (r) => frame.ids[r]) };
 }
 
 /** Rejects with RunInterrupted as soon as `signal` aborts, so the pool can be torn down mid-context. */
@@ -297,6 +292,8 @@ function shareFrame(frame: Frame): Frame {
 }
 
 function shared<T extends Float64Array | Int32Array | Uint8Array>(Ctor: { new (b: SharedArrayBuffer): T; BYTES_PER_ELEMENT: number }, src: T): T {
+  // The loader already builds its columns on SharedArrayBuffers; copying those again would only double memory.
+  if (src.buffer instanceof SharedArrayBuffer) return src;
   const out = new Ctor(new SharedArrayBuffer(src.length * Ctor.BYTES_PER_ELEMENT));
   out.set(src);
   return out;
@@ -360,21 +357,9 @@ function decodeBlend(files: ReadonlyMap<string, Uint8Array>): BlendResult {
   return { model: JSON.parse(Buffer.from(get('model.json')).toString('utf8')) as StackModel, oof: float64From(get('oof.f64')), holdout: float64From(get('holdout.f64')) };
 }
 
-function gather(values: Float64Array, rows: Uint32Array): Float64Array {
-  const out = new Float64Array(rows.length);
-  for (let i = 0; i < rows.length; i++) out[i] = values[rows[i]];
-  return out;
-}
-
-function gatherTarget(target: Uint8Array, rows: Uint32Array): Uint8Array {
-  const out = new Uint8Array(rows.length);
-  for (let i = 0; i < rows.length; i++) out[i] = target[rows[i]];
-  return out;
-}
-
 function evaluateAll(config: ResolvedConfig, plan: Plan, names: readonly string[], oof: Float64Array[], hold: Float64Array[], blend: BlendResult, target: Uint8Array, reports: { kind: string; report: StageReport }[]): Metrics {
-  const yDev = gatherTarget(target, plan.split.dev);
-  const yHold = gatherTarget(target, plan.split.holdout);
+  const yDev = gather(target, plan.split.dev);
+  const yHold = gather(target, plan.split.holdout);
   const evalOpts = (part: string, name: string) => ({ budget: config.evaluate.budget, budgets: config.evaluate.budgets, rng: createRng(config.seed, 'bootstrap', part, name), bootstrap: 1000 });
   const oofM: Record<string, MetricSet> = {};
   const holdM: Record<string, MetricSet> = {};

@@ -88,25 +88,23 @@ export function treeFromJson(j: FlatTreeJson): FlatTree {
   };
 }
 
+/** The leaf row `r` of `columns` (indexed like the tree's features) reaches; missing values take the learned side. */
+function rawLeaf(t: RawTree, columns: readonly Float64Array[], r: number): number {
+  const feature = t.feature;
+  let node = 0;
+  let f = feature[0];
+  while (f >= 0) {
+    const x = columns[f][r];
+    const goLeft = x !== x ? t.missingLeft[node] === 1 : x <= t.threshold[node];
+    node = goLeft ? t.left[node] : t.right[node];
+    f = feature[node];
+  }
+  return node;
+}
+
 /** Leaf reached by each row: out[i] for values at rows[i] of `columns` (indexed like the tree's features). */
 export function leafIndexRaw(t: RawTree, columns: readonly Float64Array[], rows: Uint32Array, out: Int32Array): void {
-  const feature = t.feature;
-  const threshold = t.threshold;
-  const missingLeft = t.missingLeft;
-  const left = t.left;
-  const right = t.right;
-  for (let i = 0; i < rows.length; i++) {
-    const r = rows[i];
-    let node = 0;
-    let f = feature[0];
-    while (f >= 0) {
-      const x = columns[f][r];
-      const goLeft = x !== x ? missingLeft[node] === 1 : x <= threshold[node];
-      node = goLeft ? left[node] : right[node];
-      f = feature[node];
-    }
-    out[i] = node;
-  }
+  for (let i = 0; i < rows.length; i++) out[i] = rawLeaf(t, columns, rows[i]);
 }
 
 /** Leaf reached by local rows 0..n-1 given their bin codes per column. */
@@ -132,24 +130,8 @@ export function leafIndexBinned(t: FlatTree, codes: readonly BinCodes[], n: numb
 
 /** Leaf value for each of `rows` on raw values. */
 export function predictRaw(t: RawTree, columns: readonly Float64Array[], rows: Uint32Array, out: Float64Array): void {
-  const feature = t.feature;
-  const threshold = t.threshold;
-  const missingLeft = t.missingLeft;
-  const left = t.left;
-  const right = t.right;
   const value = t.value;
-  for (let i = 0; i < rows.length; i++) {
-    const r = rows[i];
-    let node = 0;
-    let f = feature[0];
-    while (f >= 0) {
-      const x = columns[f][r];
-      const goLeft = x !== x ? missingLeft[node] === 1 : x <= threshold[node];
-      node = goLeft ? left[node] : right[node];
-      f = feature[node];
-    }
-    out[i] = value[node];
-  }
+  for (let i = 0; i < rows.length; i++) out[i] = value[rawLeaf(t, columns, rows[i])];
 }
 
 /**
