@@ -21,6 +21,8 @@ export interface TreeBinsConfig {
   /** Columns to bin; null = every numeric column. */
   readonly columns: readonly string[] | null;
   readonly monotone: Monotone;
+  /** Quantile bins per column before the tree is grown; exact on columns with at most this many distinct values. */
+  readonly max_bins: number;
 }
 
 export interface BinStat {
@@ -52,13 +54,14 @@ const DEFAULTS: TreeBinsConfig = {
   smoothing: 20,
   columns: null,
   monotone: 'none',
+  max_bins: 255,
 };
 
 const KEYS = new Set(Object.keys(DEFAULTS));
 
 export const treeBins: Stage<TreeBinsConfig, TreeBinsState> = {
   kind: 'tree-bins',
-  version: 2,
+  version: 3,
   supervised: true,
   replacesInputs: false,
 
@@ -86,7 +89,11 @@ export const treeBins: Stage<TreeBinsConfig, TreeBinsState> = {
     if (mono !== 'auto' && mono !== 'up' && mono !== 'down' && mono !== 'none') {
       throw new TreeParamError('monotone must be auto, up, down or none', 'monotone', mono);
     }
-    return { max_depth: maxDepth, min_leaf: minLeaf, smoothing: m, columns: cols as string[] | null, monotone: mono };
+    const maxBins = cfg.max_bins;
+    if (typeof maxBins !== 'number' || !Number.isInteger(maxBins) || maxBins < 2 || maxBins > 65535) {
+      throw new TreeParamError('max_bins must be an integer in [2, 65535]', 'max_bins', maxBins);
+    }
+    return { max_depth: maxDepth, min_leaf: minLeaf, smoothing: m, columns: cols as string[] | null, monotone: mono, max_bins: maxBins };
   },
 
   selectInputs(config: TreeBinsConfig, available: readonly Column[]): string[] {
@@ -118,7 +125,7 @@ export const treeBins: Stage<TreeBinsConfig, TreeBinsState> = {
       }
       const fitRows = present.subarray(0, nPresent);
       const minLeafCount = config.min_leaf < 1 ? Math.max(1, Math.ceil(config.min_leaf * nPresent)) : config.min_leaf;
-      const fitted = fitIntervalTree(x, target, fitRows, { maxDepth: config.max_depth, minLeafCount });
+      const fitted = fitIntervalTree(x, target, fitRows, { maxDepth: config.max_depth, minLeafCount, maxBins: config.max_bins });
       const dir: Direction | null = config.monotone === 'none' ? null : config.monotone === 'auto' ? fitted.trend : config.monotone;
       const bins = dir === null ? fitted.bins : mergeMonotone(fitted.bins, dir);
       return {

@@ -180,7 +180,7 @@ describe('good configs', () => {
     expect(cfg.split).toEqual({ folds: 4, innerFolds: 3, holdout: { type: 'time', column: 'application_date', from: '2023-07-01' } });
     expect([...cfg.features.keys()]).toEqual(['dates', 'tree-bins', 'leaf-z', 'summaries']);
     expect(cfg.features.get('dates')).toEqual({ pairs: [['application_date', 'registered_date']], fiscal_start_month: 4, holiday_window_days: 7 });
-    expect(cfg.features.get('tree-bins')).toEqual({ monotone: 'auto', min_leaf: 30, max_depth: 3, smoothing: 20 });
+    expect(cfg.features.get('tree-bins')).toEqual({ monotone: 'auto', max_bins: 255, min_leaf: 30, max_depth: 3, smoothing: 20 });
     expect(cfg.features.get('leaf-z')).toEqual({});
     expect(cfg.features.get('summaries')).toEqual({ high_z: 1 });
     expect([...cfg.learners.keys()]).toEqual(['lr_strong', 'lr_weak']);

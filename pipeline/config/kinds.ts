@@ -41,6 +41,13 @@ export const stageKinds: ReadonlyMap<string, ObjectSchema> = new Map([
           ]),
           'none',
         ),
+        max_bins: optional(
+          integer(
+            'Quantile bins per column (edges from the fit rows) before its tree is grown; a column with at most this many distinct values is split exactly as on the raw values.',
+            { min: 2, max: 65535 },
+          ),
+          255,
+        ),
       },
       { nullable: true },
     ),

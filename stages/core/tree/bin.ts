@@ -71,11 +71,8 @@ export function midpoint(lo: number, hi: number): number {
 }
 
 /**
- * Quantile bin edges from the fit rows only. With at most `maxBins` distinct values every
- * distinct value is its own bin and the edges are the midpoints between neighbours, so a tree
- * on the codes can place every threshold a tree on the raw values could. With more distinct
- * values, neighbouring values are grouped greedily so that bins hold about n / maxBins rows each;
- * a value that alone reaches that size keeps a bin of its own rather than absorbing neighbours.
+ * Quantile bin edges from the fit rows only (see `quantileEdges`): with at most `maxBins`
+ * distinct values a tree on the codes can place every threshold a tree on the raw values could.
  */
 export function fitNumericBins(values: Float64Array, rows: Uint32Array, maxBins: number): NumericBinMapper {
   checkMaxBins(maxBins);
@@ -85,7 +82,17 @@ export function fitNumericBins(values: Float64Array, rows: Uint32Array, maxBins:
     const v = values[rows[i]];
     if (v === v) sorted[n++] = v;
   }
-  const xs = sorted.subarray(0, n).sort();
+  return { type: 'numeric', edges: quantileEdges(sorted.subarray(0, n).sort(), maxBins) };
+}
+
+/**
+ * Bin edges over ascending, NaN-free values: with at most `maxBins` distinct values every one
+ * is its own bin, edges at the midpoints between neighbours; with more, neighbouring values are
+ * grouped greedily so that bins hold about n / maxBins values each, and a value that alone
+ * reaches that size keeps a bin of its own rather than absorbing neighbours.
+ */
+export function quantileEdges(xs: Float64Array, maxBins: number): number[] {
+  const n = xs.length;
   const distinct = new Float64Array(n);
   const counts = new Float64Array(n);
   let d = 0;
@@ -99,7 +106,7 @@ export function fitNumericBins(values: Float64Array, rows: Uint32Array, maxBins:
   const edges: number[] = [];
   if (d <= maxBins) {
     for (let k = 1; k < d; k++) edges.push(midpoint(distinct[k - 1], distinct[k]));
-    return { type: 'numeric', edges };
+    return edges;
   }
   let remainingRows = n;
   let binsLeft = maxBins;
@@ -115,7 +122,7 @@ export function fitNumericBins(values: Float64Array, rows: Uint32Array, maxBins:
       inBin = 0;
     }
   }
-  return { type: 'numeric', edges };
+  return edges;
 }
 
 /**

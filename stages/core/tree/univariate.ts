@@ -1,16 +1,21 @@
 /**
  * A one-column Gini tree turned into ordered intervals: the building block of tree binning.
  * Because the tree sees a single column, every node's rows form one interval (lower, upper] of
- * that column, and its leaves read left to right are adjacent intervals. That lets the tree be
- * grown on the sorted distinct values directly — two native sorts and prefix sums, no
- * histograms — with every threshold exactly where a tree on the raw values puts it (the midpoint
- * between neighbouring distinct values, as scikit-learn and rpart do).
+ * that column, and its leaves read left to right are adjacent intervals. So the tree is grown on
+ * per-bin row and event counts as prefix sums — no per-node histograms, no row partitioning.
+ *
+ * Bins are the column's quantile bins (at most `maxBins`, edges from a sample of the fit rows).
+ * When the sample holds every distinct value and there are at most `maxBins` of them — always
+ * so for up to SAMPLE_ROWS fit rows with few enough distinct values — each bin is one value and
+ * the tree is exactly the one grown on the raw values. A threshold sits at the midpoint between
+ * the largest fit value left of it and the smallest right of it, as scikit-learn and rpart
+ * place theirs, so it always falls in a real gap of the fit data.
  *
  * The split rules are those of `split.ts` for the Gini criterion (same gain arithmetic on the same
  * integer sums, a strictly positive gain, the lowest threshold on ties, a minimum row count per
- * child, no split of a pure node), so the result is the tree `growTree` grows on exact bins.
+ * child, no split of a pure node).
  */
-import { midpoint } from './bin.js';
+import { midpoint, quantileEdges } from './bin.js';
 import { trendDirection, type Direction } from './monotone.js';
 
 export interface IntervalBins {
@@ -32,6 +37,25 @@ export interface UnivariateTreeParams {
   readonly maxDepth: number;
   /** Minimum rows per leaf, as a count. */
   readonly minLeafCount: number;
+  /** Most bins the column is cut into before growing (2..65535). */
+  readonly maxBins: number;
+}
+
+/**
+ * Up to this many fit rows every row is in the edge sample. Above it a fixed hash of the row
+ * index picks about this many: reproducible, independent of row order and of any seed, and
+ * enough for 255 quantile bins of ~64 sampled rows each (common practice, no source).
+ */
+export const SAMPLE_ROWS = 1 << 14;
+
+/** Murmur3's 32-bit finalizer: a well-mixed hash of the row index for sampling. */
+function mix32(h: number): number {
+  h ^= h >>> 16;
+  h = Math.imul(h, 0x85ebca6b);
+  h ^= h >>> 13;
+  h = Math.imul(h, 0xc2b2ae35);
+  h ^= h >>> 16;
+  return h >>> 0;
 }
 
 /** Weight-times-Gini impurity 2·e·(n−e)/n, as in split.ts. */
@@ -43,38 +67,40 @@ function giniMass(e: number, n: number): number {
 export function fitIntervalTree(x: Float64Array, y: Uint8Array, rows: Uint32Array, p: UnivariateTreeParams): IntervalTree {
   const n = rows.length;
   if (n === 0) return { bins: { thresholds: [], n: [0], events: [0] }, trend: null };
-  let nEv = 0;
-  for (let i = 0; i < n; i++) nEv += y[rows[i]];
-  const all = new Float64Array(n);
-  const ev = new Float64Array(nEv);
-  for (let i = 0, k = 0; i < n; i++) {
-    const v = x[rows[i]];
-    all[i] = v;
-    if (y[rows[i]] === 1) ev[k++] = v;
-  }
-  all.sort();
-  ev.sort();
-  // Distinct values with their row and event counts, as prefix sums over the sorted values.
-  const values = new Float64Array(n);
-  const cumN = new Float64Array(n + 1);
-  const cumE = new Float64Array(n + 1);
-  let d = 0;
-  for (let i = 0, j = 0; i < n; d++) {
-    const v = all[i];
-    let c = 0;
-    while (i < n && all[i] === v) {
-      c++;
-      i++;
+  const edges = Float64Array.from(quantileEdges(edgeSample(x, rows), p.maxBins));
+  const nb = edges.length + 1;
+  const binN = new Float64Array(nb);
+  const binE = new Float64Array(nb);
+  const lowest = new Float64Array(nb).fill(Infinity);
+  const highest = new Float64Array(nb).fill(-Infinity);
+  const grid = edgeGrid(edges);
+  const { origin, scale, first } = grid;
+  const top = grid.cells;
+  for (let i = 0; i < n; i++) {
+    const r = rows[i];
+    const v = x[r];
+    const c = (v - origin) * scale;
+    const cell = c >= top ? top : c > 0 ? c | 0 : 0;
+    let lo = first[cell];
+    let hi = first[cell + 1];
+    while (lo < hi) {
+      const mid = (lo + hi) >>> 1;
+      if (edges[mid] < v) lo = mid + 1;
+      else hi = mid;
     }
-    let e = 0;
-    while (j < nEv && ev[j] === v) {
-      e++;
-      j++;
-    }
-    values[d] = v;
-    cumN[d + 1] = cumN[d] + c;
-    cumE[d + 1] = cumE[d] + e;
+    binN[lo]++;
+    binE[lo] += y[r];
+    if (v < lowest[lo]) lowest[lo] = v;
+    if (v > highest[lo]) highest[lo] = v;
   }
+  // Prefix sums over the bins; every bin holds at least its sampled value, so none is empty.
+  const cumN = new Float64Array(nb + 1);
+  const cumE = new Float64Array(nb + 1);
+  for (let k = 0; k < nb; k++) {
+    cumN[k + 1] = cumN[k] + binN[k];
+    cumE[k + 1] = cumE[k] + binE[k];
+  }
+  const d = nb;
   const out: { thresholds: number[]; n: number[]; events: number[] } = { thresholds: [], n: [], events: [] };
   const minN = p.minLeafCount;
   const grow = (lo: number, hi: number, depth: number): void => {
@@ -103,15 +129,65 @@ export function fitIntervalTree(x: Float64Array, y: Uint8Array, rows: Uint32Arra
       return;
     }
     grow(lo, bestK + 1, depth + 1);
-    out.thresholds.push(midpoint(values[bestK], values[bestK + 1]));
+    out.thresholds.push(midpoint(highest[bestK], lowest[bestK + 1]));
     grow(bestK + 1, hi, depth + 1);
   };
   grow(0, d, 0);
-  const perN = new Float64Array(d);
-  const perE = new Float64Array(d);
-  for (let k = 0; k < d; k++) {
-    perN[k] = cumN[k + 1] - cumN[k];
-    perE[k] = cumE[k + 1] - cumE[k];
+  return { bins: out, trend: trendDirection(binN, binE) };
+}
+
+/**
+ * A uniform grid over the edges' range that narrows each value's bin search to the edges sharing
+ * its grid cell — usually none or one — instead of a full binary search (which costs about eight
+ * unpredictable branches per row). Correct under rounding because the cell map is monotone: an
+ * edge in a lower cell is below the value and an edge in a higher cell above it.
+ */
+interface EdgeGrid {
+  readonly origin: number;
+  readonly scale: number;
+  /** Highest cell; cells are 0..cells. */
+  readonly cells: number;
+  /** first[c]: how many edges lie in cells below c (length cells + 2). */
+  readonly first: Int32Array;
+}
+
+const GRID_CELLS = 2048;
+
+function edgeGrid(edges: Float64Array): EdgeGrid {
+  const m = edges.length;
+  const origin = m > 0 ? edges[0] : 0;
+  const span = m > 1 ? edges[m - 1] - origin : 0;
+  const scale = span > 0 && Number.isFinite(span) ? GRID_CELLS / span : 0;
+  const first = new Int32Array(GRID_CELLS + 2);
+  for (let k = 0; k < m; k++) {
+    const c = (edges[k] - origin) * scale;
+    const cell = c >= GRID_CELLS ? GRID_CELLS : c > 0 ? c | 0 : 0;
+    first[cell + 1]++;
   }
-  return { bins: out, trend: trendDirection(perN, perE) };
+  for (let c = 1; c < first.length; c++) first[c] += first[c - 1];
+  return { origin, scale, cells: GRID_CELLS, first };
+}
+
+/** The sorted x values of the edge sample (see SAMPLE_ROWS). */
+function edgeSample(x: Float64Array, rows: Uint32Array): Float64Array {
+  const n = rows.length;
+  if (n <= SAMPLE_ROWS) {
+    const all = new Float64Array(n);
+    for (let i = 0; i < n; i++) all[i] = x[rows[i]];
+    return all.sort();
+  }
+  const cut = Math.floor((SAMPLE_ROWS / n) * 0x1_0000_0000);
+  let picked = new Float64Array(SAMPLE_ROWS + (SAMPLE_ROWS >>> 3));
+  let k = 0;
+  for (let i = 0; i < n; i++) {
+    const r = rows[i];
+    if (mix32(r) >= cut) continue;
+    if (k === picked.length) {
+      const grown = new Float64Array(k * 2);
+      grown.set(picked);
+      picked = grown;
+    }
+    picked[k++] = x[r];
+  }
+  return picked.subarray(0, k).sort();
 }
