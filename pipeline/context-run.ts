@@ -136,8 +136,8 @@ export function runContext(task: ContextTask): ContextResult {
       states.push({ kind: stage.kind, state: out.state });
       stageInputs.push(inputs);
     }
-    const consumed = new Set(inputs);
-    if (stage.replacesInputs) available = available.filter((n) => !consumed.has(n));
+    const removed = new Set(stage.replacedInputs ? stage.replacedInputs(inputs) : stage.replacesInputs ? inputs : []);
+    available = available.filter((n) => !removed.has(n));
     for (const c of out.columns) {
       if (!columns.has(c.name) || !available.includes(c.name)) available.push(c.name);
       columns.set(c.name, c);

@@ -10,6 +10,10 @@
  * the learners actually see, which is the point of standardising. Rows whose raw value is
  * missing carry the missing bin's rate: they are scored but not pooled, so each `__bin` column is
  * consumed together with its raw column, whose NaNs mark those rows.
+ *
+ * Each `__z` replaces its `__bin` column for the learners (the raw column stays): z is an affine
+ * map of the same column, so keeping both gives tree learners nothing and a linear learner an
+ * exactly collinear pair per column, at a cost that grows with the square of the width.
  */
 import { numeric, type Column, type FrameView } from '../pipeline/frame.js';
 import type { FitInput, Stage } from './types.js';
@@ -40,9 +44,13 @@ const BIN = '__bin';
 
 export const leafZ: Stage<LeafZConfig, LeafZState> = {
   kind: 'leaf-z',
-  version: 1,
+  version: 2,
   supervised: false,
   replacesInputs: false,
+
+  replacedInputs(inputs: readonly string[]): string[] {
+    return inputs.filter((name) => name.endsWith(BIN));
+  },
 
   resolveConfig(raw: unknown): LeafZConfig {
     if (raw !== undefined && raw !== null && (typeof raw !== 'object' || Object.keys(raw).length > 0)) {

@@ -39,6 +39,8 @@ export interface Stage<Cfg, State> {
   selectInputs(config: Cfg, available: readonly Column[]): string[];
   /** True when the consumed columns are removed from the feature set after this stage. */
   readonly replacesInputs: boolean;
+  /** Optional, overrides `replacesInputs`: the consumed columns removed after this stage when only some are. */
+  replacedInputs?(inputs: readonly string[]): string[];
   fit(input: FitInput<Cfg>): State;
   /** Pure and deterministic. Returns new columns of length `view.rows.length`. */
   apply(state: State, view: FrameView, inputs: readonly string[]): Column[];

@@ -52,7 +52,7 @@ export const stageKinds: ReadonlyMap<string, ObjectSchema> = new Map([
       { nullable: true },
     ),
   ],
-  ['leaf-z', object('Turn each tree-bins rate into a z-score against the pooled distribution of every column\'s leaf rates (weighted by leaf counts), so columns share one scale.', {}, { nullable: true })],
+  ['leaf-z', object('Turn each tree-bins rate into a z-score against the pooled distribution of every column\'s leaf rates (weighted by leaf counts), so columns share one scale; each z-score replaces its rate column for the learners.', {}, { nullable: true })],
   [
     'summaries',
     object(
