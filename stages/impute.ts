@@ -67,9 +67,52 @@ function numericValues(view: FrameView, name: string): Float64Array {
   return col.values;
 }
 
-/** Median by sorting a scratch copy (the mean of the two middle values for an even count). */
+/**
+ * Median of a scratch copy (the mean of the two middle values for an even count), by selection
+ * rather than a full sort: Hoare's FIND with the median of three as pivot, expected linear time.
+ * Equal values stop both scans, so columns of few distinct values still split evenly.
+ */
 function medianOf(values: Float64Array): number {
-  values.sort();
-  const m = values.length >> 1;
-  return values.length % 2 === 1 ? values[m] : (values[m - 1] + values[m]) / 2;
+  const n = values.length;
+  const m = n >> 1;
+  const upper = select(values, m);
+  if (n % 2 === 1) return upper;
+  // after select(m), values[0..m) are all <= values[m]: the lower middle is their maximum
+  let lower = -Infinity;
+  for (let i = 0; i < m; i++) if (values[i] > lower) lower = values[i];
+  return (lower + upper) / 2;
+}
+
+/** Rearranges `a` so that a[k] is the k-th smallest, smaller-or-equal values before it; returns a[k]. */
+function select(a: Float64Array, k: number): number {
+  let lo = 0;
+  let hi = a.length - 1;
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (a[mid] < a[lo]) swap(a, mid, lo);
+    if (a[hi] < a[lo]) swap(a, hi, lo);
+    if (a[hi] < a[mid]) swap(a, hi, mid);
+    const pivot = a[mid];
+    let i = lo;
+    let j = hi;
+    while (i <= j) {
+      while (a[i] < pivot) i++;
+      while (a[j] > pivot) j--;
+      if (i <= j) {
+        swap(a, i, j);
+        i++;
+        j--;
+      }
+    }
+    if (k <= j) hi = j;
+    else if (k >= i) lo = i;
+    else return a[k];
+  }
+  return a[k];
+}
+
+function swap(a: Float64Array, i: number, j: number): void {
+  const t = a[i];
+  a[i] = a[j];
+  a[j] = t;
 }
