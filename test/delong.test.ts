@@ -161,6 +161,8 @@ describe('stratified bootstrap', () => {
       const generic = stratifiedBootstrapCi(CY, seniority, capture, splitmix32(8), { replicates: 200 })!;
       const fast = stratifiedCaptureCi(CY, seniority, budget, splitmix32(8), { replicates: 200 })!;
       expect(fast).toEqual(generic);
+      // no margin: most replicates walk past the leading blocks and are recounted from their draws
+      expect(stratifiedCaptureCi(CY, seniority, budget, splitmix32(8), { replicates: 200, marginSd: 0 })).toEqual(generic);
     }
   });
   it('paired variant: CI of the AUC difference is reproducible and agrees with the DeLong difference CI', () => {
