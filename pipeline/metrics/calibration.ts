@@ -110,6 +110,8 @@ export function calibrationGlm(y: Uint8Array, p: Float64Array): CalibrationFit |
 const LOGIT_CLIP = 1e-15;
 const MAX_ITER = 100;
 const MAX_HALVINGS = 30;
+/** Relative size of rounding noise in a log-likelihood summed over many rows. */
+const ROUNDING = 1e-12;
 
 /** Log-likelihood, gradient and Hessian at one point: [ll, g0, g1, h00, h01, h11]. */
 type Stats = Float64Array;
@@ -142,13 +144,17 @@ function newtonLogistic(y: Uint8Array, x: Float64Array, withSlope: boolean): [nu
     if (Math.abs(da) <= 1e-10 * (1 + Math.abs(a)) && Math.abs(db) <= 1e-10 * (1 + Math.abs(b))) {
       return [a + da, b + db];
     }
+    // Near the optimum a sum of n log-likelihood terms moves by less than its own rounding error,
+    // so a step that loses no more than that counts as no loss (else a converging fit would halve
+    // to nothing and be reported as a failure).
+    const floor = cur[0] - ROUNDING * Math.max(1, Math.abs(cur[0]));
     let step = 1;
     evaluate(y, x, a + da, b + db, trial);
-    for (let h = 0; h < MAX_HALVINGS && !(trial[0] >= cur[0]); h++) {
+    for (let h = 0; h < MAX_HALVINGS && !(trial[0] >= floor); h++) {
       step /= 2;
       evaluate(y, x, a + step * da, b + step * db, trial);
     }
-    if (!(trial[0] >= cur[0])) return null;
+    if (!(trial[0] >= floor)) return null;
     a += step * da;
     b += step * db;
     [cur, trial] = [trial, cur];
