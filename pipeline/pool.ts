@@ -1,11 +1,14 @@
 /**
  * The worker-thread pool. Tasks are whole fit contexts (the stage chain and learners of one
  * context); column buffers are SharedArrayBuffer-backed, so sending a task copies no data.
+ * After the contexts, the same threads score the predictions (`evaluate`).
  */
 import { Piscina } from 'piscina';
 import { availableParallelism } from 'node:os';
 import { fileURLToPath } from 'node:url';
 import type { ContextOutcome, ContextResult, ContextTask } from './context-run.js';
+import type { MetricSet } from './metrics/evaluate.js';
+import type { EvaluateOutcome, EvaluateTask } from './worker.js';
 import { StepFailure } from './errors.js';
 
 /** Under vitest this module is TypeScript; compiled, it is JavaScript. Pick the worker to match. */
@@ -22,6 +25,7 @@ export function defaultWorkers(): number {
 export class ContextPool {
   private readonly pool: Piscina;
   private failure: Error | undefined;
+  private closed = false;
 
   constructor(workers: number) {
     const { filename, execArgv } = workerTarget();
@@ -38,7 +42,17 @@ export class ContextPool {
     return outcome.result;
   }
 
+  async evaluate(task: EvaluateTask): Promise<MetricSet> {
+    if (this.failure) throw this.failure;
+    const outcome = (await this.pool.run(task, { name: 'evaluate' })) as EvaluateOutcome;
+    if (!outcome.ok) throw new StepFailure(outcome.failure);
+    return outcome.metrics;
+  }
+
+  /** Idempotent: the runner closes the pool once evaluation is done, and again on any failure path. */
   async close(): Promise<void> {
+    if (this.closed) return;
+    this.closed = true;
     await this.pool.destroy();
   }
 }

@@ -14,8 +14,7 @@ import { Cache, bytesOf, float64From } from './cache.js';
 import { hashOf } from './keys.js';
 import { canonicalJson as canonical } from './config/canonical-json.js';
 import { fitStack, applyStack, type StackModel } from '../stages/stack.js';
-import { evaluateScores, type MetricSet } from './metrics/evaluate.js';
-import { createRng } from './rng.js';
+import type { MetricSet } from './metrics/evaluate.js';
 import { foldRows } from './folds.js';
 import { learnerRegistry, stageRegistry } from '../stages/index.js';
 import type { Json, Learner, Stage, StageReport } from '../stages/types.js';
@@ -103,6 +102,7 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
   const streams: { stream: DestinationStream }[] = [{ stream: fileLog }];
   if (opts.logStream) streams.push({ stream: opts.logStream });
   const runLog = pino({ base: { run: folder.id } }, pino.multistream(streams));
+  let pool: ContextPool | undefined;
   const checkpoint = () => {
     if (opts.signal?.aborted) throw new RunInterrupted(String(opts.signal.reason ?? 'abort'));
   };
@@ -133,9 +133,10 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
       return role === 'feature' || role === 'date';
     });
     const cache = new Cache(opts.cacheDir);
-    const pool = new ContextPool(opts.workers);
+    const contextPool = new ContextPool(opts.workers);
+    pool = contextPool;
     let results: ContextResult[];
-    try {
+    {
       let done = 0;
       checkpoint();
       results = await untilAborted(opts.signal, Promise.all(
@@ -155,7 +156,7 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
             keepStates: context.name === 'final',
             stackPassthrough: config.stack.passthrough,
           };
-          const r = await pool.run(task);
+          const r = await contextPool.run(task);
           done++;
           const hits = r.steps.filter((s) => s.hit).length;
           say(`context ${r.context} done (${done}/${plan.contexts.length}; ${hits}/${r.steps.length} steps from cache)`);
@@ -163,8 +164,6 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
           return r;
         }),
       ));
-    } finally {
-      await pool.close();
     }
     checkpoint();
     const byName = new Map(results.map((r) => [r.context, r]));
@@ -189,16 +188,17 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
     }
 
     const tEval = performance.now();
-    const evalKey = hashOf('evaluate', stackKey, canonical(config.evaluate), String(config.seed), 'v1');
+    const evalKey = hashOf('evaluate', stackKey, canonical(config.evaluate), String(config.seed), 'v2');
     const cachedEval = cache.get(evalKey);
     let metrics: Metrics;
     if (cachedEval) {
       metrics = JSON.parse(Buffer.from(cachedEval.get('metrics.json') ?? new Uint8Array()).toString('utf8')) as Metrics;
     } else {
-      metrics = evaluateAll(config, plan, learnerNames, oofPreds, holdPreds, blend, frame.target, stageReports);
+      metrics = await untilAborted(opts.signal, evaluateAll(contextPool, config, plan, learnerNames, oofPreds, holdPreds, blend, frame.target, stageReports));
       cache.put(evalKey, new Map([['metrics.json', Buffer.from(JSON.stringify(metrics))]]));
     }
     steps.push({ step: 'evaluate', key: evalKey, hit: cachedEval !== undefined, seconds: (performance.now() - tEval) / 1000 });
+    await contextPool.close();
     // Outside the evaluation cache entry: it is one pass over the rows, and entries written before it existed stay valid.
     metrics = { ...metrics, ...disparityOf(frame, config.evaluate.budget, plan, metrics, blend) };
 
@@ -247,6 +247,7 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
     folder.abandon();
     throw err;
   } finally {
+    await pool?.close();
     fileLog.end();
   }
 }
@@ -357,18 +358,25 @@ function decodeBlend(files: ReadonlyMap<string, Uint8Array>): BlendResult {
   return { model: JSON.parse(Buffer.from(get('model.json')).toString('utf8')) as StackModel, oof: float64From(get('oof.f64')), holdout: float64From(get('holdout.f64')) };
 }
 
-function evaluateAll(config: ResolvedConfig, plan: Plan, names: readonly string[], oof: Float64Array[], hold: Float64Array[], blend: BlendResult, target: Uint8Array, reports: { kind: string; report: StageReport }[]): Metrics {
+/**
+ * Every learner's and the stack's metrics on the out-of-fold and holdout rows, each set scored in
+ * a pool thread (their bootstraps dominate; each is seeded by its own part and name).
+ */
+async function evaluateAll(pool: ContextPool, config: ResolvedConfig, plan: Plan, names: readonly string[], oof: Float64Array[], hold: Float64Array[], blend: BlendResult, target: Uint8Array, reports: { kind: string; report: StageReport }[]): Promise<Metrics> {
   const yDev = gather(target, plan.split.dev);
   const yHold = gather(target, plan.split.holdout);
-  const evalOpts = (part: string, name: string) => ({ budget: config.evaluate.budget, budgets: config.evaluate.budgets, rng: createRng(config.seed, 'bootstrap', part, name), bootstrap: 1000 });
+  const score = (part: 'oof' | 'holdout', name: string, y: Uint8Array, p: Float64Array): Promise<MetricSet> =>
+    pool.evaluate({ y, p, budget: config.evaluate.budget, budgets: config.evaluate.budgets, seed: config.seed, part, name, replicates: 1000 });
+  const sets = [
+    ...names.map((n, j) => ['oof', n, yDev, gather(oof[j], plan.split.dev)] as const),
+    ...names.map((n, j) => ['holdout', n, yHold, gather(hold[j], plan.split.holdout)] as const),
+    ['oof', 'stack', yDev, blend.oof] as const,
+    ['holdout', 'stack', yHold, blend.holdout] as const,
+  ];
+  const scored = await Promise.all(sets.map(([part, name, y, p]) => score(part, name, y, p)));
   const oofM: Record<string, MetricSet> = {};
   const holdM: Record<string, MetricSet> = {};
-  names.forEach((n, j) => {
-    oofM[n] = evaluateScores(yDev, gather(oof[j], plan.split.dev), evalOpts('oof', n));
-    holdM[n] = evaluateScores(yHold, gather(hold[j], plan.split.holdout), evalOpts('holdout', n));
-  });
-  oofM.stack = evaluateScores(yDev, blend.oof, evalOpts('oof', 'stack'));
-  holdM.stack = evaluateScores(yHold, blend.holdout, evalOpts('holdout', 'stack'));
+  sets.forEach(([part, name], k) => ((part === 'oof' ? oofM : holdM)[name] = scored[k]));
   const weights: Record<string, number> = {};
   names.forEach((n, j) => (weights[n] = blend.model.weights[j]));
   const stages: Record<string, Json> = {};
