@@ -67,6 +67,7 @@ export interface CategoricalDistribution {
   readonly rows: number;
 }
 
+/** Distributions over the development rows, or an evenly spaced 50,000 of them when there are more (`rows` says how many). */
 export interface BundleDrift {
   /** The stack score of the development rows as the bundle scores them. */
   readonly score: NumericDistribution;
