@@ -43,7 +43,7 @@ export const stageKinds: ReadonlyMap<string, ObjectSchema> = new Map([
         ),
         max_bins: optional(
           integer(
-            'Quantile bins per column (edges from the fit rows) before its tree is grown; a column with at most this many distinct values is split exactly as on the raw values.',
+            'Quantile bins per column (edges from the fit rows, or a fixed sample of 16,384 of them when there are more) before its tree is grown; a column with at most this many distinct values in those rows is split exactly as on the raw values.',
             { min: 2, max: 65535 },
           ),
           255,
@@ -155,7 +155,7 @@ export const learnerKinds: ReadonlyMap<string, ObjectSchema> = new Map([
       max_depth: optional(integer('Maximum depth of the tree.', { min: 1, max: 32 }), 6),
       min_leaf: optional(number('Smallest leaf: ≥ 1 is a row count (whole number), < 1 a fraction of the fit rows.', { min: 0, exclusiveMin: true }), 50),
       smoothing: optional(smoothing, 0),
-      max_bins: optional(integer('Value bins per column; a column with no more distinct values is split exactly.', { min: 2, max: 65535 }), 255),
+      max_bins: optional(integer('Value bins per column (edges from the fit rows, or a fixed sample of 16,384 of them when there are more); a column with no more distinct values in those rows is split exactly.', { min: 2, max: 65535 }), 255),
     }),
   ],
   [

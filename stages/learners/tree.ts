@@ -18,7 +18,7 @@ export interface TreeConfig {
   readonly min_leaf: number;
   /** m of the m-estimate of each leaf's rate toward the fit rows' rate; 0 = the raw rate. */
   readonly smoothing: number;
-  /** Value bins per column; a column with at most this many distinct values is split exactly. */
+  /** Value bins per column; a column with at most this many distinct values is split exactly (needs them all in the edge sample: always so up to 16,384 fit rows). */
   readonly max_bins: number;
 }
 

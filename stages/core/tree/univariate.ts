@@ -6,8 +6,8 @@
  *
  * Bins are the column's quantile bins (at most `maxBins`, edges from a sample of the fit rows).
  * When the sample holds every distinct value and there are at most `maxBins` of them — always
- * so for up to SAMPLE_ROWS fit rows with few enough distinct values — each bin is one value and
- * the tree is exactly the one grown on the raw values. A threshold sits at the midpoint between
+ * so for up to SAMPLE_ROWS (bin.ts) fit rows with few enough distinct values — each bin is one
+ * value and the tree is exactly the one grown on the raw values. A threshold sits at the midpoint between
  * the largest fit value left of it and the smallest right of it, as scikit-learn and rpart
  * place theirs, so it always falls in a real gap of the fit data.
  *
@@ -15,7 +15,7 @@
  * integer sums, a strictly positive gain, the lowest threshold on ties, a minimum row count per
  * child, no split of a pure node).
  */
-import { midpoint, quantileEdges } from './bin.js';
+import { edgeGrid, edgeSample, midpoint, quantileEdges } from './bin.js';
 import { trendDirection, type Direction } from './monotone.js';
 
 export interface IntervalBins {
@@ -39,23 +39,6 @@ export interface UnivariateTreeParams {
   readonly minLeafCount: number;
   /** Most bins the column is cut into before growing (2..65535). */
   readonly maxBins: number;
-}
-
-/**
- * Up to this many fit rows every row is in the edge sample. Above it a fixed hash of the row
- * index picks about this many: reproducible, independent of row order and of any seed, and
- * enough for 255 quantile bins of ~64 sampled rows each (common practice, no source).
- */
-export const SAMPLE_ROWS = 1 << 14;
-
-/** Murmur3's 32-bit finalizer: a well-mixed hash of the row index for sampling. */
-function mix32(h: number): number {
-  h ^= h >>> 16;
-  h = Math.imul(h, 0x85ebca6b);
-  h ^= h >>> 13;
-  h = Math.imul(h, 0xc2b2ae35);
-  h ^= h >>> 16;
-  return h >>> 0;
 }
 
 /** Weight-times-Gini impurity 2·e·(n−e)/n, as in split.ts. */
@@ -134,60 +117,4 @@ export function fitIntervalTree(x: Float64Array, y: Uint8Array, rows: Uint32Arra
   };
   grow(0, d, 0);
   return { bins: out, trend: trendDirection(binN, binE) };
-}
-
-/**
- * A uniform grid over the edges' range that narrows each value's bin search to the edges sharing
- * its grid cell — usually none or one — instead of a full binary search (which costs about eight
- * unpredictable branches per row). Correct under rounding because the cell map is monotone: an
- * edge in a lower cell is below the value and an edge in a higher cell above it.
- */
-interface EdgeGrid {
-  readonly origin: number;
-  readonly scale: number;
-  /** Highest cell; cells are 0..cells. */
-  readonly cells: number;
-  /** first[c]: how many edges lie in cells below c (length cells + 2). */
-  readonly first: Int32Array;
-}
-
-const GRID_CELLS = 2048;
-
-function edgeGrid(edges: Float64Array): EdgeGrid {
-  const m = edges.length;
-  const origin = m > 0 ? edges[0] : 0;
-  const span = m > 1 ? edges[m - 1] - origin : 0;
-  const scale = span > 0 && Number.isFinite(span) ? GRID_CELLS / span : 0;
-  const first = new Int32Array(GRID_CELLS + 2);
-  for (let k = 0; k < m; k++) {
-    const c = (edges[k] - origin) * scale;
-    const cell = c >= GRID_CELLS ? GRID_CELLS : c > 0 ? c | 0 : 0;
-    first[cell + 1]++;
-  }
-  for (let c = 1; c < first.length; c++) first[c] += first[c - 1];
-  return { origin, scale, cells: GRID_CELLS, first };
-}
-
-/** The sorted x values of the edge sample (see SAMPLE_ROWS). */
-function edgeSample(x: Float64Array, rows: Uint32Array): Float64Array {
-  const n = rows.length;
-  if (n <= SAMPLE_ROWS) {
-    const all = new Float64Array(n);
-    for (let i = 0; i < n; i++) all[i] = x[rows[i]];
-    return all.sort();
-  }
-  const cut = Math.floor((SAMPLE_ROWS / n) * 0x1_0000_0000);
-  let picked = new Float64Array(SAMPLE_ROWS + (SAMPLE_ROWS >>> 3));
-  let k = 0;
-  for (let i = 0; i < n; i++) {
-    const r = rows[i];
-    if (mix32(r) >= cut) continue;
-    if (k === picked.length) {
-      const grown = new Float64Array(k * 2);
-      grown.set(picked);
-      picked = grown;
-    }
-    picked[k++] = x[r];
-  }
-  return picked.subarray(0, k).sort();
 }
