@@ -3,19 +3,27 @@
  * dense matrix learners take. A missing value becomes the fit rows' median, and every column that
  * had missing values in the fit rows gains a 0/1 `__missing` flag, so learners can still use the
  * fact that a value was absent. Categorical and date columns that no stage encoded are dropped.
+ *
+ * Columns missing on exactly the same fit rows share one flag, the first such column's: every
+ * part derived from one date is missing together, and a dozen identical 0/1 columns would only
+ * add exactly collinear inputs (and width, which linear learners pay for quadratically).
  */
 import { numeric, type Column, type FrameView } from '../pipeline/frame.js';
 import type { FitInput, Stage } from './types.js';
 
 export interface ImputeState {
-  readonly columns: { readonly name: string; readonly median: number; readonly flag: boolean }[];
+  /**
+   * `flag`: the column emits `<name>__missing`; `sameAs`: the earlier column whose flag already
+   * marks exactly this column's missing fit rows (then `flag` is false).
+   */
+  readonly columns: { readonly name: string; readonly median: number; readonly flag: boolean; readonly sameAs: string | null }[];
 }
 
 type ImputeConfig = Record<string, never>;
 
 export const impute: Stage<ImputeConfig, ImputeState> = {
   kind: 'impute',
-  version: 1,
+  version: 2,
   supervised: false,
   replacesInputs: true,
   resolveConfig(): ImputeConfig {
@@ -27,15 +35,25 @@ export const impute: Stage<ImputeConfig, ImputeState> = {
   fit({ view, inputs }: FitInput<ImputeConfig>): ImputeState {
     const rows = view.rows;
     const scratch = new Float64Array(rows.length);
+    const gaps = new Uint32Array(rows.length);
+    // missing-row positions of each column that got its own flag, to recognise identical patterns
+    const flagged: { name: string; at: Uint32Array }[] = [];
     const columns = inputs.map((name) => {
       const values = numericValues(view, name);
       let n = 0;
+      let m = 0;
       for (let i = 0; i < rows.length; i++) {
         const v = values[rows[i]];
         if (v === v) scratch[n++] = v;
+        else gaps[m++] = i;
       }
       const median = n === 0 ? 0 : medianOf(scratch.subarray(0, n));
-      return { name, median, flag: n < rows.length };
+      if (m === 0) return { name, median, flag: false, sameAs: null };
+      const at = gaps.subarray(0, m);
+      const twin = flagged.find((f) => sameRows(f.at, at));
+      if (twin) return { name, median, flag: false, sameAs: twin.name };
+      flagged.push({ name, at: at.slice() });
+      return { name, median, flag: true, sameAs: null };
     });
     return { columns };
   },
@@ -60,6 +78,12 @@ export const impute: Stage<ImputeConfig, ImputeState> = {
     return out;
   },
 };
+
+function sameRows(a: Uint32Array, b: Uint32Array): boolean {
+  if (a.length !== b.length) return false;
+  for (let i = 0; i < a.length; i++) if (a[i] !== b[i]) return false;
+  return true;
+}
 
 function numericValues(view: FrameView, name: string): Float64Array {
   const col = view.columns.get(name);
