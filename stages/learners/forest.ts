@@ -45,7 +45,7 @@ const DEFAULTS: ForestConfig = {
   permutation_rows: 5000,
 };
 
-const PREDICT_BLOCK = 2048;
+const PREDICT_BLOCK = 256;
 
 export const forest: Learner<ForestConfig, ForestModel> = {
   kind: 'forest',

@@ -147,6 +147,36 @@ export function accumulate(
       hist[at + 2] += 1;
     }
   }
+  // Two or three columns left (a forest's √p draw is often 8 + 2): one pass, not one per column.
+  if (nCols - k >= 2) {
+    const three = nCols - k === 3;
+    const b0 = layout.offset[cols[k]] * STATS;
+    const b1 = layout.offset[cols[k + 1]] * STATS;
+    const b2 = three ? layout.offset[cols[k + 2]] * STATS : 0;
+    const x0 = codes[cols[k]];
+    const x1 = codes[cols[k + 1]];
+    const x2 = three ? codes[cols[k + 2]] : x0;
+    for (let i = start; i < end; i++) {
+      const r = order[i];
+      const g = grad[r];
+      const h = hess[r];
+      let at = b0 + x0[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      at = b1 + x1[r] * STATS;
+      hist[at] += g;
+      hist[at + 1] += h;
+      hist[at + 2] += 1;
+      if (three) {
+        at = b2 + x2[r] * STATS;
+        hist[at] += g;
+        hist[at + 1] += h;
+        hist[at + 2] += 1;
+      }
+    }
+    k = nCols;
+  }
   for (; k < nCols; k++) {
     const c = cols[k];
     const base = layout.offset[c] * STATS;
