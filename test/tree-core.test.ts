@@ -15,7 +15,7 @@ import {
 } from '../stages/core/tree/bin.js';
 import { TreeParamError } from '../stages/core/tree/errors.js';
 import { growTree, type GrowOptions } from '../stages/core/tree/grow.js';
-import { accumulate, histogramLayout, STATS, subtractInPlace } from '../stages/core/tree/histogram.js';
+import { accumulate, histogramLayout, STATS, STATS_NO_COUNT, subtractInPlace } from '../stages/core/tree/histogram.js';
 import { leafIndexBinned, leafIndexRaw, predictRaw, treeFromJson, treeToJson, type FlatTree } from '../stages/core/tree/predict.js';
 import { findBestSplit, SplitResult, type SplitParams } from '../stages/core/tree/split.js';
 import type { Rng } from '../stages/types.js';
@@ -138,6 +138,67 @@ describe('histogram', () => {
         else expect(parent[i]).toBeCloseTo(direct[i], 10);
       }
     }
+  });
+});
+
+describe('histograms without row counts (boosting)', () => {
+  it('give the same gradient split as counted histograms, and the same sums after subtraction', () => {
+    // An internal identity (no external reference): dropping the count must not move a split.
+    const rng = testRng(11);
+    const n = 4000;
+    const nBins = Int32Array.of(5, 255, 40, 12, 3, 9, 200, 17, 2, 64);
+    const codes = Array.from(nBins, (nb, c) => {
+      const x = new Uint8Array(n);
+      // every third column has missing codes; column 8 has two values only, one of them rare
+      for (let i = 0; i < n; i++) x[i] = c === 8 ? (rng.next() < 0.01 ? 1 : 0) : rng.int(c % 3 === 0 ? nb + 1 : nb);
+      return x;
+    });
+    const cols = Int32Array.from(nBins, (_, c) => c);
+    for (let trial = 0; trial < 20; trial++) {
+      const grad = Float64Array.from({ length: n }, () => rng.next() - 0.4);
+      const hess = Float64Array.from({ length: n }, () => 0.05 + rng.next() * 0.2);
+      const order = Uint32Array.from({ length: n }, (_, i) => i).filter(() => rng.next() < 0.7);
+      const params: SplitParams = { criterion: 'gradient', minLeafCount: 1, minLeafHess: trial % 2 ? 1 : 0, minGain: 0, lambda: 1 };
+      let g = 0;
+      let h = 0;
+      for (const r of order) {
+        g += grad[r];
+        h += hess[r];
+      }
+      const results = [STATS, STATS_NO_COUNT].map((stats) => {
+        const layout = histogramLayout(nBins, stats);
+        const hist = new Float64Array(layout.size);
+        accumulate(hist, layout, codes, cols, cols.length, order, 0, order.length, grad, hess);
+        const out = new SplitResult();
+        findBestSplit(hist, layout, cols, cols.length, g, h, order.length, params, out);
+        return out;
+      });
+      const [withCount, without] = results;
+      expect(without.feature).toBe(withCount.feature);
+      expect(without.bin).toBe(withCount.bin);
+      expect(without.gain).toBe(withCount.gain);
+      expect(without.leftGrad).toBe(withCount.leftGrad);
+      expect(without.leftHess).toBe(withCount.leftHess);
+      // nodes here always have missing rows on the split column or learn the side from the data
+      if (withCount.feature % 3 === 0) expect(without.missingLeft).toBe(withCount.missingLeft);
+    }
+    const layout = histogramLayout(nBins, STATS_NO_COUNT);
+    const [parent, small, direct] = [0, 1, 2].map(() => new Float64Array(layout.size));
+    const grad = Float64Array.from({ length: n }, () => rng.int(3) - 1);
+    const hess = Float64Array.from({ length: n }, () => 1 + rng.int(2));
+    const order = Uint32Array.from({ length: n }, (_, i) => i);
+    accumulate(parent, layout, codes, cols, cols.length, order, 0, n, grad, hess);
+    accumulate(small, layout, codes, cols, cols.length, order, 0, 1500, grad, hess);
+    accumulate(direct, layout, codes, cols, cols.length, order, 1500, n, grad, hess);
+    subtractInPlace(parent, small, layout, cols, cols.length);
+    expect(Array.from(parent)).toEqual(Array.from(direct));
+  });
+
+  it('refuse a row-count minimum they cannot check', () => {
+    const layout = histogramLayout(Int32Array.of(3), STATS_NO_COUNT);
+    const hist = new Float64Array(layout.size);
+    const params: SplitParams = { criterion: 'gradient', minLeafCount: 5, minLeafHess: 0, minGain: 0, lambda: 1 };
+    expect(() => findBestSplit(hist, layout, Int32Array.of(0), 1, 0, 1, 10, params, new SplitResult())).toThrow(TreeParamError);
   });
 });
 

@@ -19,7 +19,7 @@
 import type { Rng } from '../../types.js';
 import type { BinCodes } from './bin.js';
 import { TreeParamError } from './errors.js';
-import { HistogramPool, accumulate, histogramLayout, subtractInPlace } from './histogram.js';
+import { HistogramPool, STATS, STATS_NO_COUNT, accumulate, histogramLayout, subtractInPlace } from './histogram.js';
 import type { FlatTree } from './predict.js';
 import { SplitResult, findBestSplit, type SplitParams } from './split.js';
 
@@ -136,7 +136,9 @@ export function growTree(data: GrowData, opts: GrowOptions): FlatTree {
   if (data.nBins.length !== nCols || data.thresholds.length !== nCols) {
     throw new TreeParamError('codes, nBins and thresholds must have one entry per column', 'nCols', nCols);
   }
-  const layout = histogramLayout(data.nBins);
+  // Gradient trees with no row-count minimum need no row counts in their histograms (see histogram.ts).
+  const countless = opts.split.criterion === 'gradient' && opts.split.minLeafCount <= 1;
+  const layout = histogramLayout(data.nBins, countless ? STATS_NO_COUNT : STATS);
   const ws = data.workspace ?? new GrowWorkspace();
   const pool = ws.histograms(layout.size);
   const cand = opts.candidates ?? Int32Array.from({ length: nCols }, (_, c) => c);

@@ -4,14 +4,20 @@
  * passes gradient = weighted event indicator and hessian = sample weight, so the same sums give
  * weighted events and weighted rows; boosting passes true gradients and hessians.
  *
- * One histogram is a flat Float64Array; column c's bin b lives at 3 * (offset[c] + b).
+ * One histogram is a flat Float64Array; column c's bin b lives at stats · (offset[c] + b).
+ * Boosting, whose only size rule is on hessian sums, keeps no row count (`stats` 2): a third
+ * fewer read-modify-writes in the loop where boosting spends most of its time.
  */
 import type { BinCodes } from './bin.js';
 
 /** Values stored per bin: gradient sum, hessian sum, row count. */
 export const STATS = 3;
+/** Values stored per bin without the row count: gradient sum, hessian sum. */
+export const STATS_NO_COUNT = 2;
 
 export interface HistogramLayout {
+  /** Values per bin: STATS, or STATS_NO_COUNT. */
+  readonly stats: number;
   /** First slot of each column. */
   readonly offset: Int32Array;
   /** Value bins per column; the missing slot of column c is offset[c] + nBins[c]. */
@@ -20,14 +26,14 @@ export interface HistogramLayout {
   readonly size: number;
 }
 
-export function histogramLayout(nBins: Int32Array): HistogramLayout {
+export function histogramLayout(nBins: Int32Array, stats: number = STATS): HistogramLayout {
   const offset = new Int32Array(nBins.length);
   let slots = 0;
   for (let c = 0; c < nBins.length; c++) {
     offset[c] = slots;
     slots += nBins[c] + 1;
   }
-  return { offset, nBins, size: slots * STATS };
+  return { stats, offset, nBins, size: slots * stats };
 }
 
 /**
@@ -51,6 +57,10 @@ export function accumulate(
   grad: Float64Array,
   hess: Float64Array,
 ): void {
+  if (layout.stats === STATS_NO_COUNT) {
+    accumulateNoCount(hist, layout, codes, cols, nCols, order, start, end, grad, hess);
+    return;
+  }
   for (let k = 0; k < nCols; k++) {
     const c = cols[k];
     const base = layout.offset[c] * STATS;
@@ -191,6 +201,84 @@ export function accumulate(
   }
 }
 
+/** `accumulate` for a layout without row counts: eight columns per pass, then one at a time. */
+function accumulateNoCount(
+  hist: Float64Array,
+  layout: HistogramLayout,
+  codes: readonly BinCodes[],
+  cols: Int32Array,
+  nCols: number,
+  order: Uint32Array,
+  start: number,
+  end: number,
+  grad: Float64Array,
+  hess: Float64Array,
+): void {
+  const S = STATS_NO_COUNT;
+  for (let k = 0; k < nCols; k++) {
+    const base = layout.offset[cols[k]] * S;
+    hist.fill(0, base, base + (layout.nBins[cols[k]] + 1) * S);
+  }
+  let k = 0;
+  for (; k + 8 <= nCols; k += 8) {
+    const b0 = layout.offset[cols[k]] * S;
+    const b1 = layout.offset[cols[k + 1]] * S;
+    const b2 = layout.offset[cols[k + 2]] * S;
+    const b3 = layout.offset[cols[k + 3]] * S;
+    const b4 = layout.offset[cols[k + 4]] * S;
+    const b5 = layout.offset[cols[k + 5]] * S;
+    const b6 = layout.offset[cols[k + 6]] * S;
+    const b7 = layout.offset[cols[k + 7]] * S;
+    const x0 = codes[cols[k]];
+    const x1 = codes[cols[k + 1]];
+    const x2 = codes[cols[k + 2]];
+    const x3 = codes[cols[k + 3]];
+    const x4 = codes[cols[k + 4]];
+    const x5 = codes[cols[k + 5]];
+    const x6 = codes[cols[k + 6]];
+    const x7 = codes[cols[k + 7]];
+    for (let i = start; i < end; i++) {
+      const r = order[i];
+      const g = grad[r];
+      const h = hess[r];
+      let at = b0 + x0[r] * S;
+      hist[at] += g;
+      hist[at + 1] += h;
+      at = b1 + x1[r] * S;
+      hist[at] += g;
+      hist[at + 1] += h;
+      at = b2 + x2[r] * S;
+      hist[at] += g;
+      hist[at + 1] += h;
+      at = b3 + x3[r] * S;
+      hist[at] += g;
+      hist[at + 1] += h;
+      at = b4 + x4[r] * S;
+      hist[at] += g;
+      hist[at + 1] += h;
+      at = b5 + x5[r] * S;
+      hist[at] += g;
+      hist[at + 1] += h;
+      at = b6 + x6[r] * S;
+      hist[at] += g;
+      hist[at + 1] += h;
+      at = b7 + x7[r] * S;
+      hist[at] += g;
+      hist[at + 1] += h;
+    }
+  }
+  for (; k < nCols; k++) {
+    const base = layout.offset[cols[k]] * S;
+    const code = codes[cols[k]];
+    for (let i = start; i < end; i++) {
+      const r = order[i];
+      const at = base + code[r] * S;
+      hist[at] += grad[r];
+      hist[at + 1] += hess[r];
+    }
+  }
+}
+
 /**
  * Histogram subtraction: the larger child of a split is its parent minus the smaller child, so
  * only the smaller child is ever accumulated from rows. `parent` is overwritten in place (it
@@ -203,10 +291,11 @@ export function subtractInPlace(
   cols: Int32Array,
   nCols: number,
 ): void {
+  const S = layout.stats;
   for (let k = 0; k < nCols; k++) {
     const c = cols[k];
-    const base = layout.offset[c] * STATS;
-    const end = base + (layout.nBins[c] + 1) * STATS;
+    const base = layout.offset[c] * S;
+    const end = base + (layout.nBins[c] + 1) * S;
     for (let i = base; i < end; i++) parent[i] -= child[i];
   }
 }

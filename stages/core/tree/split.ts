@@ -6,13 +6,15 @@
  * missing value, both placements of the missing slot are tried and the better one is learned;
  * "all non-missing left, missing right" is also a candidate. Without missing rows at the node,
  * future missing values follow the child with more fit rows (ties: left) — common practice, no
- * source.
+ * source. A histogram without row counts (boosting, see histogram.ts) measures "more" and "empty"
+ * by hessian sum (cover) instead, and then supports no row-count minimum beyond 1.
  *
  * Ties are broken by a fixed rule, never randomly: a candidate replaces the incumbent only
  * with a strictly larger gain, scanning columns in ascending index order, bins in ascending
  * order, and "missing right" before "missing left".
  */
 import { STATS, type HistogramLayout } from './histogram.js';
+import { TreeParamError } from './errors.js';
 
 /**
  * `gini`: gradient = weighted event indicator, hessian = weight; gain is the decrease of
@@ -82,6 +84,9 @@ export function findBestSplit(
   out.reset();
   const crit = p.criterion;
   if (crit === 'gini' && (totGrad <= 0 || totGrad >= totHess)) return;
+  const S = layout.stats;
+  const counted = S === STATS;
+  if (!counted && p.minLeafCount > 1) throw new TreeParamError('a histogram without row counts cannot enforce minLeafCount > 1', 'minLeafCount', p.minLeafCount);
   const lambda = p.lambda;
   const minN = p.minLeafCount;
   const minH = p.minLeafHess;
@@ -91,36 +96,44 @@ export function findBestSplit(
   for (let k = 0; k < nCols; k++) {
     const c = cols[k];
     const nb = layout.nBins[c];
-    const base = layout.offset[c] * STATS;
-    const mAt = base + nb * STATS;
+    const base = layout.offset[c] * S;
+    const mAt = base + nb * S;
     const mg = hist[mAt];
     const mh = hist[mAt + 1];
-    const mn = hist[mAt + 2];
+    // rows with a missing value at this node (without counts: any hessian mass)
+    const mn = counted ? hist[mAt + 2] : mh > 0 ? 1 : 0;
+    // without counts, a child is empty when no filled bin lies on its side
+    let lastFilled = nb - 1;
+    if (!counted) while (lastFilled >= 0 && hist[base + lastFilled * S + 1] === 0) lastFilled--;
     let lg = 0;
     let lh = 0;
     let ln = 0;
     const lastBin = mn > 0 ? nb - 1 : nb - 2;
     for (let b = 0; b <= lastBin; b++) {
-      const at = base + b * STATS;
+      const at = base + b * S;
       lg += hist[at];
       lh += hist[at + 1];
-      ln += hist[at + 2];
       // an empty bin gives the same partition as the bin before it (or an empty left child)
-      if (hist[at + 2] === 0) continue;
+      if (counted) {
+        ln += hist[at + 2];
+        if (hist[at + 2] === 0) continue;
+      } else if (hist[at + 1] === 0) continue;
+      const valuesRight = b < lastFilled;
       // missing right
       let rn = totCount - ln;
-      if (ln >= minN && rn >= minN && lh >= minH && totHess - lh >= minH) {
+      const sizedR = counted ? ln >= minN && rn >= minN : valuesRight || mn > 0;
+      if (sizedR && lh >= minH && totHess - lh >= minH) {
         const gain = score(crit, lg, lh, lambda) + score(crit, totGrad - lg, totHess - lh, lambda) - parent;
         if (gain > best || (!found && gain === best && gain > 0)) {
           best = gain;
           found = true;
           out.feature = c;
           out.bin = b;
-          out.missingLeft = mn > 0 ? false : ln >= rn;
+          out.missingLeft = mn > 0 ? false : counted ? ln >= rn : lh >= totHess - lh;
           out.gain = gain;
           out.leftGrad = lg;
           out.leftHess = lh;
-          out.leftCount = ln;
+          out.leftCount = counted ? ln : NaN;
         }
       }
       if (mn === 0 || b === nb - 1) continue;
@@ -129,7 +142,8 @@ export function findBestSplit(
       rn = totCount - ln2;
       const lg2 = lg + mg;
       const lh2 = lh + mh;
-      if (ln2 >= minN && rn >= minN && lh2 >= minH && totHess - lh2 >= minH) {
+      const sizedL = counted ? ln2 >= minN && rn >= minN : valuesRight;
+      if (sizedL && lh2 >= minH && totHess - lh2 >= minH) {
         const gain = score(crit, lg2, lh2, lambda) + score(crit, totGrad - lg2, totHess - lh2, lambda) - parent;
         if (gain > best || (!found && gain === best && gain > 0)) {
           best = gain;
@@ -140,7 +154,7 @@ export function findBestSplit(
           out.gain = gain;
           out.leftGrad = lg2;
           out.leftHess = lh2;
-          out.leftCount = ln2;
+          out.leftCount = counted ? ln2 : NaN;
         }
       }
     }
