@@ -161,7 +161,9 @@ export function runContext(task: ContextTask): ContextResult {
     const learner = learnerRegistry.get(item.kind) as Learner<unknown, Json> | undefined;
     if (!learner) throw new Error(`unknown learner kind ${item.kind}`);
     const config = atStep(`learner:${item.name}@${context.name}`, () => learner.resolveConfig(item.config));
-    const key = learnerKey({ kind: learner.kind, version: learner.version, config: { options: item.config, balance: task.balance }, upstream, context, seed: task.seed, name: item.name });
+    // Only the final context's models are described in the run folder; fold models just predict.
+    const report = task.keepStates;
+    const key = learnerKey({ kind: learner.kind, version: learner.version, config: { options: item.config, balance: task.balance, report }, upstream, context, seed: task.seed, name: item.name });
     const t0 = performance.now();
     const cached = cache.get(key);
     let pred: Float64Array;
@@ -173,12 +175,12 @@ export function runContext(task: ContextTask): ContextResult {
       [model, pred] = atStep(`learner:${item.name}@${context.name}`, () => {
         const [X, names] = learner.handlesMissing ? [rawFeatures, rawNames] : [features, available];
         if (!task.balance) {
-          const m = learner.fit({ features: X, names, rows: context.train, target: task.target, config, rng: createRng(task.seed, 'learner', item.name, context.name) });
+          const m = learner.fit({ features: X, names, rows: context.train, target: task.target, config, rng: createRng(task.seed, 'learner', item.name, context.name), report });
           return [m, learner.predict(m, X, context.apply)] as const;
         }
         // The fit sees a downsampled sample; its predictions are moved back to the population's base rate.
         const sample = balanceRows(context.train, task.target, task.balance.ratio, createRng(task.seed, 'balance', item.name, context.name));
-        const m = learner.fit({ features: X, names, rows: sample.rows, target: task.target, config, rng: createRng(task.seed, 'learner', item.name, context.name) });
+        const m = learner.fit({ features: X, names, rows: sample.rows, target: task.target, config, rng: createRng(task.seed, 'learner', item.name, context.name), report });
         return [m, priorCorrect(learner.predict(m, X, context.apply), sample.tau, sample.ybar)] as const;
       });
       cache.put(key, new Map([['pred.f64', bytesOf(pred)], ['model.json', Buffer.from(JSON.stringify(model))]]));

@@ -65,6 +65,11 @@ export interface LearnerFitInput<Cfg> {
   readonly target: Uint8Array;
   readonly config: Cfg;
   readonly rng: Rng;
+  /**
+   * False when nobody will read the model's `describe()` (the runner's fold contexts, whose models
+   * only predict): a learner may then skip diagnostics that cost time. Absent means true.
+   */
+  readonly report?: boolean;
 }
 
 export interface Learner<Cfg, Model> {

@@ -223,6 +223,11 @@ describe('forest learner', () => {
     expect(top2(imp)).toEqual([2, 5]);
     expect(top2(perm)).toEqual([2, 5]);
     for (const j of [0, 1, 3, 4, 6, 7]) expect(Math.abs(perm[j])).toBeLessThan(0.02);
+    // A fit nobody describes (a fold context) skips the permutation pass and grows the same trees.
+    const quiet = forest.fit({ features: cols, names, rows: iota(n), target: y, config: forestCfg({ trees: 60, min_leaf: 20 }), rng: testRng(1), report: false });
+    expect(quiet.permutation).toBeNull();
+    expect(quiet.trees).toEqual(m.trees);
+    expect(quiet.impurity).toEqual(m.impurity);
   });
 
   // Timing only (printed, not asserted): 200 trees, depth 8, min leaf 20 on 200k × 30 rows.

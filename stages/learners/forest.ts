@@ -69,7 +69,7 @@ export const forest: Learner<ForestConfig, ForestModel> = {
     };
   },
 
-  fit({ features, names, rows, target, config, rng }: LearnerFitInput<ForestConfig>): ForestModel {
+  fit({ features, names, rows, target, config, rng, report }: LearnerFitInput<ForestConfig>): ForestModel {
     checkWidth(names.length, features.length);
     const m = binMatrix(features, rows);
     const y = Uint8Array.from(rows, (r) => target[r]);
@@ -83,7 +83,8 @@ export const forest: Learner<ForestConfig, ForestModel> = {
         featuresPerSplit: featuresPerSplitFor(config.max_features, features.length),
         sample: config.sample,
         bootstrap: config.bootstrap,
-        permutationRows: config.permutation_rows,
+        // permutation importance only shows in the report; skipping it leaves the trees unchanged
+        permutationRows: report === false ? 0 : config.permutation_rows,
       },
       rng,
     );
