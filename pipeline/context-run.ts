@@ -138,6 +138,9 @@ export function runContext(task: ContextTask): ContextResult {
     }
     const removed = new Set(stage.replacedInputs ? stage.replacedInputs(inputs) : stage.replacesInputs ? inputs : []);
     available = available.filter((n) => !removed.has(n));
+    // No later stage or learner can select a replaced column, so this context lets go of it
+    // (learners that take missing values keep their pre-impute arrays through beforeImpute).
+    for (const n of removed) columns.delete(n);
     for (const c of out.columns) {
       if (!columns.has(c.name) || !available.includes(c.name)) available.push(c.name);
       columns.set(c.name, c);

@@ -4,6 +4,9 @@
  * had missing values in the fit rows gains a 0/1 `__missing` flag, so learners can still use the
  * fact that a value was absent. Categorical and date columns that no stage encoded are dropped.
  *
+ * A column is re-emitted (under its own name, replacing it) only when the rows at hand have a
+ * missing value in it; otherwise the learners read the original array, which is already complete.
+ *
  * Columns missing on exactly the same fit rows share one flag, the first such column's: every
  * part derived from one date is missing together, and a dozen identical 0/1 columns would only
  * add exactly collinear inputs (and width, which linear learners pay for quadratically).
@@ -23,9 +26,9 @@ type ImputeConfig = Record<string, never>;
 
 export const impute: Stage<ImputeConfig, ImputeState> = {
   kind: 'impute',
-  version: 2,
+  version: 3,
   supervised: false,
-  replacesInputs: true,
+  replacesInputs: false,
   resolveConfig(): ImputeConfig {
     return {};
   },
@@ -62,17 +65,21 @@ export const impute: Stage<ImputeConfig, ImputeState> = {
     const out: Column[] = [];
     for (const c of state.columns) {
       const values = numericValues(view, c.name);
-      const filled = new Float64Array(rows.length);
+      let gaps = 0;
+      for (let i = 0; i < rows.length; i++) if (values[rows[i]] !== values[rows[i]]) gaps++;
       const flag = c.flag ? new Float64Array(rows.length) : undefined;
-      for (let i = 0; i < rows.length; i++) {
-        const v = values[rows[i]];
-        if (v === v) filled[i] = v;
-        else {
-          filled[i] = c.median;
-          if (flag) flag[i] = 1;
+      if (gaps > 0) {
+        const filled = new Float64Array(rows.length);
+        for (let i = 0; i < rows.length; i++) {
+          const v = values[rows[i]];
+          if (v === v) filled[i] = v;
+          else {
+            filled[i] = c.median;
+            if (flag) flag[i] = 1;
+          }
         }
+        out.push(numeric(c.name, filled));
       }
-      out.push(numeric(c.name, filled));
       if (flag) out.push(numeric(`${c.name}__missing`, flag));
     }
     return out;

@@ -42,11 +42,15 @@ describe('impute', () => {
       ['d', true, null],
     ]);
     const out = impute.apply(state, v, inputs);
-    expect(out.map((c) => c.name)).toEqual(['a', 'a__missing', 'b', 'c', 'd', 'd__missing']);
+    // c has nothing to fill, so it is not re-emitted: the learners read the original column
+    expect(out.map((c) => c.name)).toEqual(['a', 'a__missing', 'b', 'd', 'd__missing']);
     const get = (name: string) => Array.from((out.find((c) => c.name === name) as { values: Float64Array }).values);
     expect(get('a')).toEqual([4, 2.5, 1, 3, 2.5, 2]);
     expect(get('a__missing')).toEqual([0, 1, 0, 0, 1, 0]);
     expect(get('b')).toEqual([9, 6, 5, 5, 6, 7]);
     expect(get('d__missing')).toEqual([1, 0, 0, 0, 0, 0]);
+    // rows without gaps in a: a is left alone, but its flag (part of the fitted state) is still emitted as zeros
+    const complete: FrameView = { columns: v.columns, rows: Uint32Array.of(0, 2, 3, 5) };
+    expect(impute.apply(state, complete, inputs).map((c) => c.name)).toEqual(['a__missing', 'd', 'd__missing']);
   });
 });
