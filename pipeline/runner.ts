@@ -122,7 +122,7 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
       runLog.info({ exclusion: r }, 'rows excluded');
       say(`excluded ${r.rows} rows (${r.reason}: ${r.column} ${r.condition})`);
     }
-    const dataKey = hashOf('data', loaded.digest, canonical({ target: config.data.target, positive: config.data.positive ?? null, id: config.data.id ?? null, columns: config.data.columns, missing: config.data.missing, exclude: config.exclude }));
+    const dataKey = dataKeyOf(config, loaded.digest);
     const events = countEvents(frame.target);
     runLog.info({ rows: frame.nRows, events, digest: loaded.digest }, 'data loaded');
     say(`${frame.nRows} rows, ${events} events (${((100 * events) / frame.nRows).toFixed(2)}%)`);
@@ -250,6 +250,11 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
     await pool?.close();
     fileLog.end();
   }
+}
+
+/** The root of every cache key: the file's digest and everything in the config that shapes the loaded rows. */
+export function dataKeyOf(config: ResolvedConfig, digest: string): string {
+  return hashOf('data', digest, canonical({ target: config.data.target, positive: config.data.positive ?? null, id: config.data.id ?? null, columns: config.data.columns, missing: config.data.missing, exclude: config.exclude }));
 }
 
 /** The frame restricted to the rows `keep` marks (a copy, made once, only when rules excluded rows). */

@@ -1,17 +1,18 @@
 /**
  * Runs one fit context of a config in this process (no worker pool), for profiling with
  * `node --cpu-prof`: `npx tsx test/bench/profile-context.ts <config> <cache-dir> <context> [learner…]`.
- * Stages come from the cache when it holds them; learners listed are renamed (with the process id) so they always miss.
+ * Stages come from the cache when it holds them; learners listed are renamed (with the process
+ * id) so they always miss. Configs with `exclude` rules are refused: the rows would not match.
  */
 import { loadConfig } from '../../pipeline/config/index.js';
 import { loadFrame } from '../../pipeline/io/load.js';
-import { hashOf } from '../../pipeline/keys.js';
-import { canonicalJson } from '../../pipeline/config/canonical-json.js';
+import { dataKeyOf } from '../../pipeline/runner.js';
 import { makePlan } from '../../pipeline/plan.js';
 import { runContext, type ContextTask } from '../../pipeline/context-run.js';
 
 const [cfgFile, cacheDir, ctxName, ...only] = process.argv.slice(2);
 const config = await loadConfig(cfgFile);
+if (config.exclude.length > 0) throw new Error('profile-context does not apply exclude rules; profile a config without them');
 const loaded = await loadFrame(config.data.file, { target: config.data.target, positive: config.data.positive, id: config.data.id, columns: config.data.columns, missing: config.data.missing });
 const frame = loaded.frame;
 const plan = makePlan(config, frame);
@@ -29,7 +30,7 @@ const task: ContextTask = {
   balance: config.balance,
   seed: config.seed,
   // as the runner derives it, so that stage steps find the runs' cache entries
-  dataKey: hashOf('data', loaded.digest, canonicalJson({ target: config.data.target, positive: config.data.positive ?? null, id: config.data.id ?? null, columns: config.data.columns, missing: config.data.missing, exclude: config.exclude })),
+  dataKey: dataKeyOf(config, loaded.digest),
   cacheDir,
   keepStates: false,
 };

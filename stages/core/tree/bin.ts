@@ -229,23 +229,14 @@ export function allocCodes(n: number, nBins: number): BinCodes {
 export function encodeNumeric(m: NumericBinMapper, values: Float64Array, rows: Uint32Array, out: BinCodes): void {
   const edges = m.edges;
   const missing = edges.length + 1;
-  const { origin, scale, cells, first } = edgeGrid(edges);
+  const grid = edgeGrid(edges);
   for (let i = 0; i < rows.length; i++) {
     const v = values[rows[i]];
     if (v !== v) {
       out[i] = missing;
       continue;
     }
-    const c = (v - origin) * scale;
-    const cell = c >= cells ? cells : c > 0 ? c | 0 : 0;
-    let lo = first[cell];
-    let hi = first[cell + 1];
-    while (lo < hi) {
-      const mid = (lo + hi) >>> 1;
-      if (edges[mid] < v) lo = mid + 1;
-      else hi = mid;
-    }
-    out[i] = lo;
+    out[i] = binOf(grid, edges, v);
   }
 }
 
@@ -296,4 +287,18 @@ export function edgeGrid(edges: ArrayLike<number>): EdgeGrid {
   }
   for (let c = 1; c < first.length; c++) first[c] += first[c - 1];
   return { origin, scale, cells: GRID_CELLS, first };
+}
+
+/** Bin of a non-missing value `v` (how many edges lie below it), searching only its grid cell. */
+export function binOf(grid: EdgeGrid, edges: ArrayLike<number>, v: number): number {
+  const c = (v - grid.origin) * grid.scale;
+  const cell = c >= grid.cells ? grid.cells : c > 0 ? c | 0 : 0;
+  let lo = grid.first[cell];
+  let hi = grid.first[cell + 1];
+  while (lo < hi) {
+    const mid = (lo + hi) >>> 1;
+    if (edges[mid] < v) lo = mid + 1;
+    else hi = mid;
+  }
+  return lo;
 }

@@ -7,15 +7,15 @@
  * Bins are the column's quantile bins (at most `maxBins`, edges from a sample of the fit rows).
  * When the sample holds every distinct value and there are at most `maxBins` of them — always
  * so for up to SAMPLE_ROWS (bin.ts) fit rows with few enough distinct values — each bin is one
- * value and the tree is exactly the one grown on the raw values. A threshold sits at the midpoint between
- * the largest fit value left of it and the smallest right of it, as scikit-learn and rpart
- * place theirs, so it always falls in a real gap of the fit data.
+ * value and the tree is exactly the one grown on the raw values. A threshold sits at the
+ * midpoint between the largest fit value left of it and the smallest right of it, as
+ * scikit-learn and rpart place theirs, so it always falls in a real gap of the fit data.
  *
  * The split rules are those of `split.ts` for the Gini criterion (same gain arithmetic on the same
  * integer sums, a strictly positive gain, the lowest threshold on ties, a minimum row count per
  * child, no split of a pure node).
  */
-import { edgeGrid, edgeSample, midpoint, quantileEdges } from './bin.js';
+import { binOf, edgeGrid, edgeSample, midpoint, quantileEdges } from './bin.js';
 import { trendDirection, type Direction } from './monotone.js';
 
 export interface IntervalBins {
@@ -57,24 +57,14 @@ export function fitIntervalTree(x: Float64Array, y: Uint8Array, rows: Uint32Arra
   const lowest = new Float64Array(nb).fill(Infinity);
   const highest = new Float64Array(nb).fill(-Infinity);
   const grid = edgeGrid(edges);
-  const { origin, scale, first } = grid;
-  const top = grid.cells;
   for (let i = 0; i < n; i++) {
     const r = rows[i];
     const v = x[r];
-    const c = (v - origin) * scale;
-    const cell = c >= top ? top : c > 0 ? c | 0 : 0;
-    let lo = first[cell];
-    let hi = first[cell + 1];
-    while (lo < hi) {
-      const mid = (lo + hi) >>> 1;
-      if (edges[mid] < v) lo = mid + 1;
-      else hi = mid;
-    }
-    binN[lo]++;
-    binE[lo] += y[r];
-    if (v < lowest[lo]) lowest[lo] = v;
-    if (v > highest[lo]) highest[lo] = v;
+    const b = binOf(grid, edges, v);
+    binN[b]++;
+    binE[b] += y[r];
+    if (v < lowest[b]) lowest[b] = v;
+    if (v > highest[b]) highest[b] = v;
   }
   // Prefix sums over the bins; every bin holds at least its sampled value, so none is empty.
   const cumN = new Float64Array(nb + 1);
