@@ -24,7 +24,7 @@ import {
   quarterOfMonth,
 } from '../stages/core/calendar.js';
 import { DATE_PART_SUFFIXES, DateLeakageError, DatesConfigError, datesStage, type DatesConfig } from '../stages/dates.js';
-import type { Rng } from '../stages/types.js';
+import { noDraws } from './helpers/seeded.js';
 
 interface PartsRow {
   date: string;
@@ -66,14 +66,7 @@ const holidayRef = (ref('us_federal_holidays_2015_2035.json') as {
   expected: { holidays: HolidayRow[]; observed_dates_sorted: string[]; count_per_year: Record<string, number> };
 }).expected;
 
-const noRng: Rng = {
-  next: () => {
-    throw new Error('dates stage must not draw random numbers');
-  },
-  int: () => {
-    throw new Error('dates stage must not draw random numbers');
-  },
-};
+const noRng = noDraws('dates stage must not draw random numbers');
 
 function viewOf(columns: Column[]): FrameView {
   const n = columns.length === 0 ? 0 : columns[0].type === 'date' ? columns[0].days.length : 0;

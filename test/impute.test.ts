@@ -1,21 +1,14 @@
 import { describe, expect, it } from 'vitest';
 import { numeric, type Column, type FrameView } from '../pipeline/frame.js';
 import { impute } from '../stages/impute.js';
-import type { Rng } from '../stages/types.js';
+import { iota, noDraws } from './helpers/seeded.js';
 
-const noRng: Rng = {
-  next: () => {
-    throw new Error('impute draws nothing');
-  },
-  int: () => {
-    throw new Error('impute draws nothing');
-  },
-};
+const noRng = noDraws('impute draws nothing');
 
 function view(cols: Record<string, number[]>): FrameView {
   const columns = new Map<string, Column>(Object.entries(cols).map(([k, v]) => [k, numeric(k, Float64Array.from(v))]));
   const n = Object.values(cols)[0].length;
-  return { columns, rows: Uint32Array.from({ length: n }, (_, i) => i) };
+  return { columns, rows: iota(n) };
 }
 
 describe('impute', () => {

@@ -4,19 +4,11 @@ import { numeric, type Column, type FrameView, type NumericColumn } from '../pip
 import { leafZ } from '../stages/leaf-z.js';
 import { summaries } from '../stages/summaries.js';
 import { treeBins } from '../stages/tree-bins.js';
-import type { Rng } from '../stages/types.js';
 import { numericColumnOf, readCsv, targetOf } from './helpers/read-csv.js';
+import { iota, noDraws } from './helpers/seeded.js';
 
 const REF = fileURLToPath(new URL('./reference/', import.meta.url));
-const iota = (n: number): Uint32Array => Uint32Array.from({ length: n }, (_, i) => i);
-const noRng: Rng = {
-  next: () => {
-    throw new Error('no random draws expected');
-  },
-  int: () => {
-    throw new Error('no random draws expected');
-  },
-};
+const noRng = noDraws('no random draws expected');
 const values = (c: Column | undefined): Float64Array => (c as NumericColumn).values;
 
 describe('leaf-z', () => {

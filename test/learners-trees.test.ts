@@ -14,27 +14,12 @@ import { forest, type ForestConfig } from '../stages/learners/forest.js';
 import { tree } from '../stages/learners/tree.js';
 import { leafIndexRaw } from '../stages/core/tree/predict.js';
 import { loadCompactTree } from '../stages/core/tree/compact.js';
-import type { Rng } from '../stages/types.js';
 import { generateDemo } from '../data-demo/generate.js';
 import { runYaml, tempDir } from './helpers/run-fixture.js';
 import { readCsv, type CsvTable } from './helpers/read-csv.js';
+import { testRng, iota } from './helpers/seeded.js';
 
 const REF = fileURLToPath(new URL('./reference/', import.meta.url));
-
-/** mulberry32: seeded test data and learner rngs. */
-function testRng(seed: number): Rng {
-  let a = seed >>> 0;
-  const next = (): number => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  return { next, int: (n: number) => Math.floor(next() * n) };
-}
-
-const iota = (n: number): Uint32Array => Uint32Array.from({ length: n }, (_, i) => i);
 
 /** Continuous columns without ties and a noisy non-linear target. */
 function synthetic(n: number, p: number, seed: number) {

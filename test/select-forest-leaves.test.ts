@@ -6,22 +6,7 @@ import { numeric, type Column, type NumericColumn } from '../pipeline/frame.js';
 import { auc } from '../pipeline/metrics/auc.js';
 import { forestLeaves } from '../stages/forest-leaves.js';
 import { select } from '../stages/select.js';
-import type { Rng } from '../stages/types.js';
-
-/** mulberry32 */
-function testRng(seed: number): Rng {
-  let a = seed >>> 0;
-  const next = (): number => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  return { next, int: (n: number) => Math.floor(next() * n) };
-}
-
-const iota = (n: number): Uint32Array => Uint32Array.from({ length: n }, (_, i) => i);
+import { testRng, iota } from './helpers/seeded.js';
 
 /** 20 numeric columns (some missing values); only c3, c11 and c17 move the target. */
 function signalData(n: number, seed: number) {

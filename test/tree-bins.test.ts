@@ -3,20 +3,12 @@ import { fileURLToPath } from 'node:url';
 import { describe, expect, it } from 'vitest';
 import { numeric, type Column, type FrameView } from '../pipeline/frame.js';
 import { treeBins, weightOfEvidence, type TreeBinsConfig, type TreeBinsState } from '../stages/tree-bins.js';
-import type { Rng } from '../stages/types.js';
 import { numericColumnOf, readCsv, targetOf } from './helpers/read-csv.js';
+import { iota, noDraws } from './helpers/seeded.js';
 
 const REF = fileURLToPath(new URL('./reference/', import.meta.url));
 const json = (f: string) => JSON.parse(readFileSync(REF + f, 'utf8'));
-const iota = (n: number): Uint32Array => Uint32Array.from({ length: n }, (_, i) => i);
-const noRng: Rng = {
-  next: () => {
-    throw new Error('tree-bins must not draw random numbers');
-  },
-  int: () => {
-    throw new Error('tree-bins must not draw random numbers');
-  },
-};
+const noRng = noDraws('tree-bins must not draw random numbers');
 
 interface Case {
   id: string;

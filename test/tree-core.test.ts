@@ -18,24 +18,9 @@ import { growTree, type GrowOptions } from '../stages/core/tree/grow.js';
 import { accumulate, histogramLayout, STATS, STATS_NO_COUNT, subtractInPlace } from '../stages/core/tree/histogram.js';
 import { leafIndexBinned, leafIndexRaw, predictRaw, treeFromJson, treeToJson, type FlatTree } from '../stages/core/tree/predict.js';
 import { findBestSplit, SplitResult, type SplitParams } from '../stages/core/tree/split.js';
-import type { Rng } from '../stages/types.js';
+import { testRng, iota } from './helpers/seeded.js';
 
 const REF = fileURLToPath(new URL('./reference/', import.meta.url));
-
-/** Small seeded generator for test data (mulberry32). */
-function testRng(seed: number): Rng {
-  let a = seed >>> 0;
-  const next = (): number => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  return { next, int: (n: number) => Math.floor(next() * n) };
-}
-
-const iota = (n: number): Uint32Array => Uint32Array.from({ length: n }, (_, i) => i);
 
 const GINI: SplitParams = { criterion: 'gini', minLeafCount: 1, minLeafHess: 0, minGain: 0, lambda: 0 };
 

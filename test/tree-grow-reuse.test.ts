@@ -8,20 +8,7 @@ import { describe, expect, it } from 'vitest';
 import { allocCodes, binThresholds, encodeNumeric, fitNumericBins, valueBinCount, type BinCodes } from '../stages/core/tree/bin.js';
 import { growTree, GrowWorkspace, type GrowOptions } from '../stages/core/tree/grow.js';
 import { leafIndexBinned, treeToJson } from '../stages/core/tree/predict.js';
-import type { Rng } from '../stages/types.js';
-
-/** Small seeded generator for test data (mulberry32). */
-function testRng(seed: number): Rng {
-  let a = seed >>> 0;
-  const next = (): number => {
-    a = (a + 0x6d2b79f5) >>> 0;
-    let t = a;
-    t = Math.imul(t ^ (t >>> 15), t | 1);
-    t ^= t + Math.imul(t ^ (t >>> 7), t | 61);
-    return ((t ^ (t >>> 14)) >>> 0) / 4294967296;
-  };
-  return { next, int: (n: number) => Math.floor(next() * n) };
-}
+import { testRng } from './helpers/seeded.js';
 
 function problem(n: number, p: number, seed: number) {
   const rng = testRng(seed);
