@@ -13,7 +13,9 @@
  * the base rate. `base_score` overrides it (0.5 reproduces XGBoost ≤ 1.7's default).
  */
 import { allocCodes, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, type BinCodes } from '../core/tree/bin.js';
-import { growTree, GrowWorkspace, type GrowOptions } from '../core/tree/grow.js';
+import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes, type GrowOptions } from '../core/tree/grow.js';
+import { STATS_NO_COUNT } from '../core/tree/histogram.js';
+import { TreeArena } from '../core/tree/kernel/arena.js';
 import { addLeafValuesBinned, leafIndexRaw, treeFromJson, treeToJson, type FlatTreeJson } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput, Rng } from '../types.js';
 
@@ -256,7 +258,17 @@ function gradientsAndLoss(margin: Float64Array, y: Uint8Array, rows: Uint32Array
   return rows.length > 0 ? s / rows.length : 0;
 }
 
-function fitBoosted({ features, names, rows, target, config, rng }: LearnerFitInput<BoostedConfig>): BoostedModel {
+function fitBoosted(input: LearnerFitInput<BoostedConfig>): BoostedModel {
+  const arena = TreeArena.open(treeArenaBytes(input.rows.length, input.features.length, STATS_NO_COUNT, liveHistograms(input.config.max_depth, false)));
+  try {
+    return fitBoostedIn(input, arena);
+  } finally {
+    arena?.close();
+  }
+}
+
+/** Codes, gradients, hessians and tree buffers come from `arena` while it has room (see kernel/arena.ts). */
+function fitBoostedIn({ features, names, rows, target, config, rng }: LearnerFitInput<BoostedConfig>, arena: TreeArena | null): BoostedModel {
   if (features.length !== names.length) throw new BoostedInputError(`${features.length} feature columns but ${names.length} names`, names.length, features.length);
   const n = rows.length;
   const p = features.length;
@@ -277,7 +289,7 @@ function fitBoosted({ features, names, rows, target, config, rng }: LearnerFitIn
     const m = fitNumericBins(features[c], boostGlobal, MAX_UINT8_BINS);
     edges.push(m.edges.slice());
     nBins[c] = m.edges.length + 1;
-    const out = allocCodes(n, nBins[c]);
+    const out = arena?.u8(n) ?? allocCodes(n, nBins[c]);
     encodeNumeric(m, features[c], rows, out);
     codes.push(out);
   }
@@ -289,12 +301,12 @@ function fitBoosted({ features, names, rows, target, config, rng }: LearnerFitIn
   const baseMargin = Math.log(base / (1 - base));
 
   const margin = new Float64Array(n).fill(baseMargin);
-  const grad = new Float64Array(n);
-  const hess = new Float64Array(n);
+  const grad = arena?.f64(n) ?? new Float64Array(n);
+  const hess = arena?.f64(n) ?? new Float64Array(n);
   const sample = new Uint32Array(boost.length);
   const unsampled = new Uint32Array(boost.length);
   const leafOf = new Int32Array(n);
-  const workspace = new GrowWorkspace();
+  const workspace = new GrowWorkspace(arena, n);
   const perm = Int32Array.from({ length: p }, (_, c) => c);
   const nCols = Math.max(1, Math.round(config.colsample * p));
 

@@ -7,7 +7,8 @@
 import { booleanOption, intOption, minLeafCount, minLeafOption, numberOption, OptionError, readOptions } from '../core/options.js';
 import { compactTree, loadCompactTree, type CompactTree } from '../core/tree/compact.js';
 import { TreeParamError } from '../core/tree/errors.js';
-import { binMatrix, featuresPerSplitFor, growForest } from '../core/tree/forest.js';
+import { binMatrix, featuresPerSplitFor, forestArenaBytes, growForest, type ForestFit, type ForestParams } from '../core/tree/forest.js';
+import { TreeArena } from '../core/tree/kernel/arena.js';
 import { predictRaw } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput, StageReport } from '../types.js';
 
@@ -71,23 +72,23 @@ export const forest: Learner<ForestConfig, ForestModel> = {
 
   fit({ features, names, rows, target, config, rng, report }: LearnerFitInput<ForestConfig>): ForestModel {
     checkWidth(names.length, features.length);
-    const m = binMatrix(features, rows);
-    const y = Uint8Array.from(rows, (r) => target[r]);
-    const fitted = growForest(
-      m,
-      y,
-      {
-        trees: config.trees,
-        maxDepth: config.max_depth,
-        minLeafCount: minLeafCount(config.min_leaf, rows.length),
-        featuresPerSplit: featuresPerSplitFor(config.max_features, features.length),
-        sample: config.sample,
-        bootstrap: config.bootstrap,
-        // permutation importance only shows in the report; skipping it leaves the trees unchanged
-        permutationRows: report === false ? 0 : config.permutation_rows,
-      },
-      rng,
-    );
+    const params: ForestParams = {
+      trees: config.trees,
+      maxDepth: config.max_depth,
+      minLeafCount: minLeafCount(config.min_leaf, rows.length),
+      featuresPerSplit: featuresPerSplitFor(config.max_features, features.length),
+      sample: config.sample,
+      bootstrap: config.bootstrap,
+      // permutation importance only shows in the report; skipping it leaves the trees unchanged
+      permutationRows: report === false ? 0 : config.permutation_rows,
+    };
+    const arena = TreeArena.open(forestArenaBytes(rows.length, features.length, params));
+    let fitted: ForestFit;
+    try {
+      fitted = growForest(binMatrix(features, rows, arena), Uint8Array.from(rows, (r) => target[r]), params, rng, arena);
+    } finally {
+      arena?.close();
+    }
     return {
       names: [...names],
       trees: fitted.trees.map((t) => compactTree(t)),

@@ -5,11 +5,13 @@
  */
 import { intOption, minLeafCount, minLeafOption, numberOption, readOptions } from '../core/options.js';
 import { mEstimate } from '../core/smoothing.js';
-import { allocCodes, binThresholds, encodeNumeric, fitNumericBins, MAX_UINT16_BINS, valueBinCount } from '../core/tree/bin.js';
+import { allocCodes, binThresholds, encodeNumeric, fitNumericBins, MAX_UINT16_BINS, MAX_UINT8_BINS, valueBinCount } from '../core/tree/bin.js';
 import { compactTree, loadCompactTree, type CompactTree } from '../core/tree/compact.js';
 import { TreeParamError } from '../core/tree/errors.js';
-import { growTree } from '../core/tree/grow.js';
-import { predictRaw } from '../core/tree/predict.js';
+import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes } from '../core/tree/grow.js';
+import { STATS } from '../core/tree/histogram.js';
+import { TreeArena } from '../core/tree/kernel/arena.js';
+import { predictRaw, type FlatTree } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput } from '../types.js';
 
 export interface TreeConfig {
@@ -50,30 +52,35 @@ export const tree: Learner<TreeConfig, TreeModel> = {
   fit({ features, names, rows, target, config }: LearnerFitInput<TreeConfig>): TreeModel {
     checkWidth(names.length, features.length);
     const n = rows.length;
-    const grad = new Float64Array(n);
     let events = 0;
-    for (let i = 0; i < n; i++) {
-      grad[i] = target[rows[i]];
-      events += grad[i];
-    }
+    for (let i = 0; i < n; i++) events += target[rows[i]];
     const prior = n > 0 ? events / n : 0;
     const mappers = features.map((x) => fitNumericBins(x, rows, config.max_bins));
     const nBins = Int32Array.from(mappers, valueBinCount);
-    const codes = features.map((x, c) => {
-      const out = allocCodes(n, nBins[c]);
-      encodeNumeric(mappers[c], x, rows, out);
-      return out;
-    });
     const minLeaf = minLeafCount(config.min_leaf, n);
-    const grown = growTree(
-      { codes, nBins, thresholds: mappers.map(binThresholds), grad, hess: new Float64Array(n).fill(1), rows: Uint32Array.from({ length: n }, (_, i) => i) },
-      {
-        maxDepth: config.max_depth,
-        minSplit: Math.max(2, 2 * minLeaf),
-        split: { criterion: 'gini', minLeafCount: minLeaf, minLeafHess: 0, minGain: 0, lambda: 0 },
-        leafValue: 'ratio',
-      },
-    );
+    const arena = TreeArena.open(treeArenaBytes(n, features.length, STATS, liveHistograms(config.max_depth, false)));
+    let grown: FlatTree;
+    try {
+      const codes = features.map((x, c) => {
+        const out = (nBins[c] <= MAX_UINT8_BINS ? arena?.u8(n) : null) ?? allocCodes(n, nBins[c]);
+        encodeNumeric(mappers[c], x, rows, out);
+        return out;
+      });
+      const grad = arena?.f64(n) ?? new Float64Array(n);
+      for (let i = 0; i < n; i++) grad[i] = target[rows[i]];
+      const hess = (arena?.f64(n) ?? new Float64Array(n)).fill(1);
+      grown = growTree(
+        { codes, nBins, thresholds: mappers.map(binThresholds), grad, hess, rows: Uint32Array.from({ length: n }, (_, i) => i), workspace: new GrowWorkspace(arena, n) },
+        {
+          maxDepth: config.max_depth,
+          minSplit: Math.max(2, 2 * minLeaf),
+          split: { criterion: 'gini', minLeafCount: minLeaf, minLeafHess: 0, minGain: 0, lambda: 0 },
+          leafValue: 'ratio',
+        },
+      );
+    } finally {
+      arena?.close();
+    }
     const value = Array.from(grown.gradSum, (g, k) => mEstimate(g, grown.hessSum[k], prior, config.smoothing));
     return { names: [...names], prior, tree: compactTree(grown, value) };
   },

@@ -15,7 +15,9 @@ import type { Rng } from '../../types.js';
 import { drawStreamSeed, streamRng } from '../stream-rng.js';
 import { binThresholds, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, valueBinCount } from './bin.js';
 import { TreeParamError } from './errors.js';
-import { growTree } from './grow.js';
+import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes } from './grow.js';
+import { STATS } from './histogram.js';
+import type { TreeArena } from './kernel/arena.js';
 import type { FlatTree } from './predict.js';
 
 /** Numeric columns binned over the fit rows: local row i is fit row rows[i]. */
@@ -26,10 +28,11 @@ export interface BinnedMatrix {
   readonly n: number;
 }
 
-export function binMatrix(features: readonly Float64Array[], rows: Uint32Array): BinnedMatrix {
+/** With an arena, the codes live in the histogram kernel's memory while it has room (kernel/arena.ts). */
+export function binMatrix(features: readonly Float64Array[], rows: Uint32Array, arena: TreeArena | null = null): BinnedMatrix {
   const mappers = features.map((x) => fitNumericBins(x, rows, MAX_UINT8_BINS));
   const codes = features.map((x, c) => {
-    const out = new Uint8Array(rows.length);
+    const out = arena?.u8(rows.length) ?? new Uint8Array(rows.length);
     encodeNumeric(mappers[c], x, rows, out);
     return out;
   });
@@ -73,16 +76,28 @@ export function validateForestParams(p: ForestParams): void {
   }
 }
 
-/** Grows the forest on all local rows of `m`; `y[i]` is local row i's 0/1 target. */
-export function growForest(m: BinnedMatrix, y: Uint8Array, p: ForestParams, rng: Rng): ForestFit {
+/**
+ * Bytes a forest fit on `rows` × `cols` asks its TreeArena for (binMatrix's codes and growForest's
+ * buffers), so that both can share one arena.
+ */
+export function forestArenaBytes(rows: number, cols: number, p: Pick<ForestParams, 'maxDepth' | 'featuresPerSplit'>): number {
+  return treeArenaBytes(rows, cols, STATS, liveHistograms(p.maxDepth, p.featuresPerSplit < cols));
+}
+
+/**
+ * Grows the forest on all local rows of `m`; `y[i]` is local row i's 0/1 target. With an arena,
+ * the per-tree buffers come from the histogram kernel's memory (kernel/arena.ts).
+ */
+export function growForest(m: BinnedMatrix, y: Uint8Array, p: ForestParams, rng: Rng, arena: TreeArena | null = null): ForestFit {
   validateForestParams(p);
   const n = m.n;
   const nCols = m.codes.length;
   const seed = drawStreamSeed(rng);
   const draws = Math.max(1, Math.round(p.sample * n));
   const counts = new Float64Array(n);
-  const grad = new Float64Array(n);
-  const hess = new Float64Array(n);
+  const grad = arena?.f64(n) ?? new Float64Array(n);
+  const hess = arena?.f64(n) ?? new Float64Array(n);
+  const workspace = new GrowWorkspace(arena, n);
   const inBag = new Uint32Array(n);
   const oob = new Uint32Array(n);
   const perm = new PermutationScratch(Math.min(p.permutationRows, n), nCols);
@@ -102,7 +117,7 @@ export function growForest(m: BinnedMatrix, y: Uint8Array, p: ForestParams, rng:
       else oob[nOut++] = i;
     }
     const tree = growTree(
-      { codes: m.codes, nBins: m.nBins, thresholds: m.thresholds, grad, hess, rows: inBag.subarray(0, nIn) },
+      { codes: m.codes, nBins: m.nBins, thresholds: m.thresholds, grad, hess, rows: inBag.subarray(0, nIn), workspace },
       {
         maxDepth: p.maxDepth,
         minSplit: Math.max(2, 2 * p.minLeafCount),

@@ -20,6 +20,7 @@ import type { Rng } from '../../types.js';
 import type { BinCodes } from './bin.js';
 import { TreeParamError } from './errors.js';
 import { HistogramPool, STATS, STATS_NO_COUNT, accumulate, histogramLayout, subtractInPlace } from './histogram.js';
+import type { TreeArena } from './kernel/arena.js';
 import type { FlatTree } from './predict.js';
 import { SplitResult, findBestSplit, type SplitParams } from './split.js';
 
@@ -55,9 +56,18 @@ export class GrowWorkspace {
   private order = new Uint32Array(0);
   private scratch = new Uint32Array(0);
 
+  /**
+   * With an arena, buffers come from the kernel's memory (kernel/arena.ts) while it has room; the
+   * row buffers are then sized for `maxRows` at once, as the arena cannot take them back.
+   */
+  constructor(
+    private readonly arena: TreeArena | null = null,
+    private readonly maxRows = 0,
+  ) {}
+
   histograms(size: number): HistogramPool {
     if (this.pool === null || this.poolSize !== size) {
-      this.pool = new HistogramPool(size);
+      this.pool = new HistogramPool(size, this.arena);
       this.poolSize = size;
     }
     return this.pool;
@@ -66,13 +76,33 @@ export class GrowWorkspace {
   /** Row-order array holding a copy of `rows`, and a scratch array of the same length. */
   rowBuffers(rows: Uint32Array): { order: Uint32Array; scratch: Uint32Array } {
     if (this.order.length < rows.length) {
-      this.order = new Uint32Array(rows.length);
-      this.scratch = new Uint32Array(rows.length);
+      const size = Math.max(rows.length, this.maxRows);
+      this.order = this.arena?.u32(size) ?? new Uint32Array(size);
+      this.scratch = this.arena?.u32(size) ?? new Uint32Array(size);
     }
     const order = this.order.subarray(0, rows.length);
     order.set(rows);
     return { order, scratch: this.scratch.subarray(0, rows.length) };
   }
+}
+
+/**
+ * Bytes a fit on `rows` local rows × `cols` 8-bit columns asks its TreeArena for: the codes, the
+ * gradient and hessian arrays, the workspace's row buffers, and `hists` histograms of up to 256
+ * slots per column with `stats` values each.
+ */
+export function treeArenaBytes(rows: number, cols: number, stats: number, hists: number): number {
+  const align = 16;
+  const histBytes = cols * 256 * stats * 8 + align;
+  return cols * (rows + align) + 2 * (8 * rows + align) + 2 * (4 * rows + align) + hists * histBytes;
+}
+
+/**
+ * Histograms alive at once while growing one tree (one per node of the deepest level that still
+ * needs one, and a spare), capped at 65: deeper trees take the rest as plain arrays.
+ */
+export function liveHistograms(maxDepth: number, sampled: boolean): number {
+  return sampled ? 1 : 2 ** Math.max(0, Math.min(maxDepth - 1, 6)) + 1;
 }
 
 export type LeafValue = 'ratio' | 'newton';

@@ -9,6 +9,7 @@
  * fewer read-modify-writes in the loop where boosting spends most of its time.
  */
 import type { BinCodes } from './bin.js';
+import { accumulateInKernel, type TreeArena } from './kernel/arena.js';
 
 /** Values stored per bin: gradient sum, hessian sum, row count. */
 export const STATS = 3;
@@ -38,7 +39,9 @@ export function histogramLayout(nBins: Int32Array, stats: number = STATS): Histo
 
 /**
  * Direct accumulation over the rows order[start..end) for the columns cols[0..nCols).
- * Zeroes those columns' slots first; other columns are left untouched.
+ * Zeroes those columns' slots first; other columns are left untouched. When every array lives in
+ * the WebAssembly kernel's memory (kernel/arena.ts) the kernel does the work, with bit-identical
+ * sums; the loops below serve every other case.
  *
  * Columns go eight (then four) at a time so that each row's index, gradient and hessian are
  * loaded once per block of columns rather than once per column: those loads are scattered
@@ -57,14 +60,16 @@ export function accumulate(
   grad: Float64Array,
   hess: Float64Array,
 ): void {
-  if (layout.stats === STATS_NO_COUNT) {
-    accumulateNoCount(hist, layout, codes, cols, nCols, order, start, end, grad, hess);
-    return;
-  }
+  const S = layout.stats;
   for (let k = 0; k < nCols; k++) {
     const c = cols[k];
-    const base = layout.offset[c] * STATS;
-    hist.fill(0, base, base + (layout.nBins[c] + 1) * STATS);
+    const base = layout.offset[c] * S;
+    hist.fill(0, base, base + (layout.nBins[c] + 1) * S);
+  }
+  if (accumulateInKernel(hist, S, layout.offset, codes, cols, nCols, order, start, end, grad, hess)) return;
+  if (S === STATS_NO_COUNT) {
+    accumulateNoCount(hist, layout, codes, cols, nCols, order, start, end, grad, hess);
+    return;
   }
   let k = 0;
   for (; k + 8 <= nCols; k += 8) {
@@ -201,7 +206,7 @@ export function accumulate(
   }
 }
 
-/** `accumulate` for a layout without row counts: eight columns per pass, then one at a time. */
+/** `accumulate` for a layout without row counts (slots already zeroed): eight columns per pass, then one at a time. */
 function accumulateNoCount(
   hist: Float64Array,
   layout: HistogramLayout,
@@ -215,10 +220,6 @@ function accumulateNoCount(
   hess: Float64Array,
 ): void {
   const S = STATS_NO_COUNT;
-  for (let k = 0; k < nCols; k++) {
-    const base = layout.offset[cols[k]] * S;
-    hist.fill(0, base, base + (layout.nBins[cols[k]] + 1) * S);
-  }
   let k = 0;
   for (; k + 8 <= nCols; k += 8) {
     const b0 = layout.offset[cols[k]] * S;
@@ -306,10 +307,13 @@ export function subtractInPlace(
  */
 export class HistogramPool {
   private readonly free: Float64Array[] = [];
-  constructor(private readonly size: number) {}
+  constructor(
+    private readonly size: number,
+    private readonly arena: TreeArena | null = null,
+  ) {}
 
   take(): Float64Array {
-    return this.free.pop() ?? new Float64Array(this.size);
+    return this.free.pop() ?? this.arena?.f64(this.size) ?? new Float64Array(this.size);
   }
 
   give(h: Float64Array): void {

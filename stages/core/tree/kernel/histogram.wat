@@ -1,0 +1,230 @@
+;; Histogram accumulation for the tree core (see ../histogram.ts, which holds the same loops in
+;; plain TypeScript and decides when this kernel may run). Compiled to kernel-binary.ts by
+;; `UPDATE_KERNEL=1 npx vitest run test/tree-kernel.test.ts`; that test fails when the two differ.
+;;
+;; Memory: bytes [0, 16384) hold the byte address of each column's uint8 codes, bytes
+;; [16384, 32768) the byte address of each column's first histogram slot (4096 columns at most);
+;; everything else belongs to the caller (codes, gradients, hessians, row order, histograms).
+;;
+;; For each column block, for i in [start, end): r = order[i], and every column's slot at
+;; code[r] gets (grad[r], hess[r]) added as one f64x2 — and, in acc3, 1 added to the row count
+;; at slot + 16. Additions happen per slot in row order, exactly as in the TypeScript loops, so
+;; both give bit-identical sums.
+(module
+  (memory (export "memory") 1)
+  ;; slots of two f64: gradient sum, hessian sum
+  (func (export "acc2") (param $n i32) (param $order i32) (param $start i32) (param $end i32) (param $grad i32) (param $hess i32)
+    (local $k i32) (local $p i32) (local $p0 i32) (local $pe i32) (local $r i32) (local $at i32) (local $v v128)
+    (local $x0 i32) (local $b0 i32) (local $x1 i32) (local $b1 i32) (local $x2 i32) (local $b2 i32) (local $x3 i32) (local $b3 i32) (local $x4 i32) (local $b4 i32) (local $x5 i32) (local $b5 i32) (local $x6 i32) (local $b6 i32) (local $x7 i32) (local $b7 i32)
+    (local.set $p0 (i32.add (local.get $order) (i32.shl (local.get $start) (i32.const 2))))
+    (local.set $pe (i32.add (local.get $order) (i32.shl (local.get $end) (i32.const 2))))
+    (block $done8
+      (loop $cols8
+      (br_if $done8 (i32.gt_u (i32.add (local.get $k) (i32.const 8)) (local.get $n)))
+      (local.set $x0 (i32.load offset=0 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b0 (i32.load offset=16384 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x1 (i32.load offset=4 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b1 (i32.load offset=16388 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x2 (i32.load offset=8 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b2 (i32.load offset=16392 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x3 (i32.load offset=12 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b3 (i32.load offset=16396 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x4 (i32.load offset=16 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b4 (i32.load offset=16400 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x5 (i32.load offset=20 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b5 (i32.load offset=16404 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x6 (i32.load offset=24 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b6 (i32.load offset=16408 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x7 (i32.load offset=28 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b7 (i32.load offset=16412 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $p (local.get $p0))
+      (if (i32.lt_u (local.get $p) (local.get $pe)) (then
+      (loop $rows8
+        (local.set $r (i32.load (local.get $p)))
+        (local.set $v (v128.load64_lane 1
+          (i32.add (local.get $hess) (i32.shl (local.get $r) (i32.const 3)))
+          (v128.load64_zero (i32.add (local.get $grad) (i32.shl (local.get $r) (i32.const 3))))))
+        (local.set $at (i32.add (local.get $b0) (i32.shl (i32.load8_u (i32.add (local.get $x0) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $at (i32.add (local.get $b1) (i32.shl (i32.load8_u (i32.add (local.get $x1) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $at (i32.add (local.get $b2) (i32.shl (i32.load8_u (i32.add (local.get $x2) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $at (i32.add (local.get $b3) (i32.shl (i32.load8_u (i32.add (local.get $x3) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $at (i32.add (local.get $b4) (i32.shl (i32.load8_u (i32.add (local.get $x4) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $at (i32.add (local.get $b5) (i32.shl (i32.load8_u (i32.add (local.get $x5) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $at (i32.add (local.get $b6) (i32.shl (i32.load8_u (i32.add (local.get $x6) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $at (i32.add (local.get $b7) (i32.shl (i32.load8_u (i32.add (local.get $x7) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $p (i32.add (local.get $p) (i32.const 4)))
+        (br_if $rows8 (i32.lt_u (local.get $p) (local.get $pe))))))
+      (local.set $k (i32.add (local.get $k) (i32.const 8)))
+      (br $cols8)))
+    (block $done4
+      (loop $cols4
+      (br_if $done4 (i32.gt_u (i32.add (local.get $k) (i32.const 4)) (local.get $n)))
+      (local.set $x0 (i32.load offset=0 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b0 (i32.load offset=16384 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x1 (i32.load offset=4 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b1 (i32.load offset=16388 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x2 (i32.load offset=8 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b2 (i32.load offset=16392 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x3 (i32.load offset=12 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b3 (i32.load offset=16396 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $p (local.get $p0))
+      (if (i32.lt_u (local.get $p) (local.get $pe)) (then
+      (loop $rows4
+        (local.set $r (i32.load (local.get $p)))
+        (local.set $v (v128.load64_lane 1
+          (i32.add (local.get $hess) (i32.shl (local.get $r) (i32.const 3)))
+          (v128.load64_zero (i32.add (local.get $grad) (i32.shl (local.get $r) (i32.const 3))))))
+        (local.set $at (i32.add (local.get $b0) (i32.shl (i32.load8_u (i32.add (local.get $x0) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $at (i32.add (local.get $b1) (i32.shl (i32.load8_u (i32.add (local.get $x1) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $at (i32.add (local.get $b2) (i32.shl (i32.load8_u (i32.add (local.get $x2) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $at (i32.add (local.get $b3) (i32.shl (i32.load8_u (i32.add (local.get $x3) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $p (i32.add (local.get $p) (i32.const 4)))
+        (br_if $rows4 (i32.lt_u (local.get $p) (local.get $pe))))))
+      (local.set $k (i32.add (local.get $k) (i32.const 4)))
+      (br $cols4)))
+    (block $done1
+      (loop $cols1
+      (br_if $done1 (i32.gt_u (i32.add (local.get $k) (i32.const 1)) (local.get $n)))
+      (local.set $x0 (i32.load offset=0 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b0 (i32.load offset=16384 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $p (local.get $p0))
+      (if (i32.lt_u (local.get $p) (local.get $pe)) (then
+      (loop $rows1
+        (local.set $r (i32.load (local.get $p)))
+        (local.set $v (v128.load64_lane 1
+          (i32.add (local.get $hess) (i32.shl (local.get $r) (i32.const 3)))
+          (v128.load64_zero (i32.add (local.get $grad) (i32.shl (local.get $r) (i32.const 3))))))
+        (local.set $at (i32.add (local.get $b0) (i32.shl (i32.load8_u (i32.add (local.get $x0) (local.get $r))) (i32.const 4))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (local.set $p (i32.add (local.get $p) (i32.const 4)))
+        (br_if $rows1 (i32.lt_u (local.get $p) (local.get $pe))))))
+      (local.set $k (i32.add (local.get $k) (i32.const 1)))
+      (br $cols1)))
+  )
+  ;; slots of three f64: gradient sum, hessian sum, row count
+  (func (export "acc3") (param $n i32) (param $order i32) (param $start i32) (param $end i32) (param $grad i32) (param $hess i32)
+    (local $k i32) (local $p i32) (local $p0 i32) (local $pe i32) (local $r i32) (local $at i32) (local $v v128)
+    (local $x0 i32) (local $b0 i32) (local $x1 i32) (local $b1 i32) (local $x2 i32) (local $b2 i32) (local $x3 i32) (local $b3 i32) (local $x4 i32) (local $b4 i32) (local $x5 i32) (local $b5 i32) (local $x6 i32) (local $b6 i32) (local $x7 i32) (local $b7 i32)
+    (local.set $p0 (i32.add (local.get $order) (i32.shl (local.get $start) (i32.const 2))))
+    (local.set $pe (i32.add (local.get $order) (i32.shl (local.get $end) (i32.const 2))))
+    (block $done8
+      (loop $cols8
+      (br_if $done8 (i32.gt_u (i32.add (local.get $k) (i32.const 8)) (local.get $n)))
+      (local.set $x0 (i32.load offset=0 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b0 (i32.load offset=16384 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x1 (i32.load offset=4 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b1 (i32.load offset=16388 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x2 (i32.load offset=8 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b2 (i32.load offset=16392 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x3 (i32.load offset=12 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b3 (i32.load offset=16396 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x4 (i32.load offset=16 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b4 (i32.load offset=16400 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x5 (i32.load offset=20 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b5 (i32.load offset=16404 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x6 (i32.load offset=24 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b6 (i32.load offset=16408 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x7 (i32.load offset=28 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b7 (i32.load offset=16412 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $p (local.get $p0))
+      (if (i32.lt_u (local.get $p) (local.get $pe)) (then
+      (loop $rows8
+        (local.set $r (i32.load (local.get $p)))
+        (local.set $v (v128.load64_lane 1
+          (i32.add (local.get $hess) (i32.shl (local.get $r) (i32.const 3)))
+          (v128.load64_zero (i32.add (local.get $grad) (i32.shl (local.get $r) (i32.const 3))))))
+        (local.set $at (i32.add (local.get $b0) (i32.mul (i32.load8_u (i32.add (local.get $x0) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $at (i32.add (local.get $b1) (i32.mul (i32.load8_u (i32.add (local.get $x1) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $at (i32.add (local.get $b2) (i32.mul (i32.load8_u (i32.add (local.get $x2) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $at (i32.add (local.get $b3) (i32.mul (i32.load8_u (i32.add (local.get $x3) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $at (i32.add (local.get $b4) (i32.mul (i32.load8_u (i32.add (local.get $x4) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $at (i32.add (local.get $b5) (i32.mul (i32.load8_u (i32.add (local.get $x5) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $at (i32.add (local.get $b6) (i32.mul (i32.load8_u (i32.add (local.get $x6) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $at (i32.add (local.get $b7) (i32.mul (i32.load8_u (i32.add (local.get $x7) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $p (i32.add (local.get $p) (i32.const 4)))
+        (br_if $rows8 (i32.lt_u (local.get $p) (local.get $pe))))))
+      (local.set $k (i32.add (local.get $k) (i32.const 8)))
+      (br $cols8)))
+    (block $done4
+      (loop $cols4
+      (br_if $done4 (i32.gt_u (i32.add (local.get $k) (i32.const 4)) (local.get $n)))
+      (local.set $x0 (i32.load offset=0 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b0 (i32.load offset=16384 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x1 (i32.load offset=4 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b1 (i32.load offset=16388 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x2 (i32.load offset=8 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b2 (i32.load offset=16392 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $x3 (i32.load offset=12 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b3 (i32.load offset=16396 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $p (local.get $p0))
+      (if (i32.lt_u (local.get $p) (local.get $pe)) (then
+      (loop $rows4
+        (local.set $r (i32.load (local.get $p)))
+        (local.set $v (v128.load64_lane 1
+          (i32.add (local.get $hess) (i32.shl (local.get $r) (i32.const 3)))
+          (v128.load64_zero (i32.add (local.get $grad) (i32.shl (local.get $r) (i32.const 3))))))
+        (local.set $at (i32.add (local.get $b0) (i32.mul (i32.load8_u (i32.add (local.get $x0) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $at (i32.add (local.get $b1) (i32.mul (i32.load8_u (i32.add (local.get $x1) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $at (i32.add (local.get $b2) (i32.mul (i32.load8_u (i32.add (local.get $x2) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $at (i32.add (local.get $b3) (i32.mul (i32.load8_u (i32.add (local.get $x3) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $p (i32.add (local.get $p) (i32.const 4)))
+        (br_if $rows4 (i32.lt_u (local.get $p) (local.get $pe))))))
+      (local.set $k (i32.add (local.get $k) (i32.const 4)))
+      (br $cols4)))
+    (block $done1
+      (loop $cols1
+      (br_if $done1 (i32.gt_u (i32.add (local.get $k) (i32.const 1)) (local.get $n)))
+      (local.set $x0 (i32.load offset=0 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $b0 (i32.load offset=16384 (i32.shl (local.get $k) (i32.const 2))))
+      (local.set $p (local.get $p0))
+      (if (i32.lt_u (local.get $p) (local.get $pe)) (then
+      (loop $rows1
+        (local.set $r (i32.load (local.get $p)))
+        (local.set $v (v128.load64_lane 1
+          (i32.add (local.get $hess) (i32.shl (local.get $r) (i32.const 3)))
+          (v128.load64_zero (i32.add (local.get $grad) (i32.shl (local.get $r) (i32.const 3))))))
+        (local.set $at (i32.add (local.get $b0) (i32.mul (i32.load8_u (i32.add (local.get $x0) (local.get $r))) (i32.const 24))))
+        (v128.store (local.get $at) (f64x2.add (v128.load (local.get $at)) (local.get $v)))
+        (f64.store offset=16 (local.get $at) (f64.add (f64.load offset=16 (local.get $at)) (f64.const 1)))
+        (local.set $p (i32.add (local.get $p) (i32.const 4)))
+        (br_if $rows1 (i32.lt_u (local.get $p) (local.get $pe))))))
+      (local.set $k (i32.add (local.get $k) (i32.const 1)))
+      (br $cols1)))
+  )
+)
