@@ -16,7 +16,7 @@ import { allocCodes, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, type BinCode
 import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes, type GrowOptions } from '../core/tree/grow.js';
 import { STATS_NO_COUNT } from '../core/tree/histogram.js';
 import { TreeArena } from '../core/tree/kernel/arena.js';
-import { addLeafValuesBinned, leafIndexRaw, treeFromJson, treeToJson, type FlatTreeJson } from '../core/tree/predict.js';
+import { addLeafValuesBinned, addTreeValuesRaw, treeFromJson, treeToJson, type FlatTreeJson } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput, Rng } from '../types.js';
 
 export interface EarlyStop {
@@ -120,13 +120,7 @@ export const boosted: Learner<BoostedConfig, BoostedModel> = {
       throw new BoostedInputError(`model has ${model.names.length} features, got ${features.length} columns`, model.names.length, features.length);
     }
     const margin = new Float64Array(rows.length).fill(model.baseMargin);
-    const leaf = new Int32Array(rows.length);
-    for (const j of model.trees) {
-      const tree = treeFromJson(j);
-      leafIndexRaw(tree, features, rows, leaf);
-      const value = tree.value;
-      for (let i = 0; i < rows.length; i++) margin[i] += value[leaf[i]];
-    }
+    addTreeValuesRaw(model.trees.map(treeFromJson), features, rows, margin);
     for (let i = 0; i < margin.length; i++) margin[i] = 1 / (1 + Math.exp(-margin[i]));
     return margin;
   },

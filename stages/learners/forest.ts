@@ -9,7 +9,7 @@ import { compactTree, loadCompactTree, type CompactTree } from '../core/tree/com
 import { TreeParamError } from '../core/tree/errors.js';
 import { binMatrix, featuresPerSplitFor, forestArenaBytes, growForest, type ForestFit, type ForestParams } from '../core/tree/forest.js';
 import { TreeArena } from '../core/tree/kernel/arena.js';
-import { predictRaw } from '../core/tree/predict.js';
+import { addTreeValuesRaw } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput, StageReport } from '../types.js';
 
 export interface ForestConfig {
@@ -45,8 +45,6 @@ const DEFAULTS: ForestConfig = {
   // 5,000 rows put the sampling sd of one tree's AUC near 0.01; common practice, no source.
   permutation_rows: 5000,
 };
-
-const PREDICT_BLOCK = 256;
 
 export const forest: Learner<ForestConfig, ForestModel> = {
   kind: 'forest',
@@ -101,15 +99,7 @@ export const forest: Learner<ForestConfig, ForestModel> = {
     checkWidth(model.names.length, features.length);
     const trees = model.trees.map(loadCompactTree);
     const sum = new Float64Array(rows.length);
-    const one = new Float64Array(PREDICT_BLOCK);
-    // Rows in blocks, every tree per block: a block's feature values stay in cache across trees.
-    for (let b = 0; b < rows.length; b += PREDICT_BLOCK) {
-      const block = rows.subarray(b, Math.min(rows.length, b + PREDICT_BLOCK));
-      for (const t of trees) {
-        predictRaw(t, features, block, one);
-        for (let i = 0; i < block.length; i++) sum[b + i] += one[i];
-      }
-    }
+    addTreeValuesRaw(trees, features, rows, sum);
     const k = trees.length;
     for (let i = 0; i < sum.length; i++) sum[i] /= k;
     return sum;

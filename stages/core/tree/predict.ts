@@ -128,6 +128,128 @@ export function leafIndexBinned(t: FlatTree, codes: readonly BinCodes[], n: numb
   }
 }
 
+/** Rows scored together by `addTreeValuesRaw`: 256 rows × 100 columns of gathered values is 200 KB. */
+const SCORE_BLOCK = 256;
+
+/**
+ * acc[i] += the leaf value of every tree in `trees`, in order, for row rows[i] on raw values.
+ *
+ * Rows go in blocks; a block's values of the columns the trees split on are first gathered
+ * row-major into a small buffer, so walking hundreds of trees reads a cache-resident buffer
+ * instead of scattered entries of full-length columns. Each walk takes exactly the tree's depth
+ * in steps (leaves point to themselves) and picks the child by index arithmetic, not a branch:
+ * which way a row goes is a coin flip to the CPU, and mispredicted branches were most of the
+ * cost of the plain walk. Each row adds its trees' values in tree order, so acc does not depend
+ * on the block size, and every row reaches the leaf `leafIndexRaw` finds.
+ */
+export function addTreeValuesRaw(trees: readonly RawTree[], columns: readonly Float64Array[], rows: Uint32Array, acc: Float64Array): void {
+  // slot[f]: column f's position in a gathered row, −1 when no tree splits on it
+  const slot = new Int32Array(columns.length).fill(-1);
+  const used: number[] = [];
+  for (const t of trees) {
+    for (let k = 0; k < t.feature.length; k++) {
+      const f = t.feature[k];
+      if (f >= 0 && slot[f] < 0) {
+        if (f >= columns.length) throw new TreeParamError('tree splits on a column that is not given', 'feature', f);
+        slot[f] = used.length;
+        used.push(f);
+      }
+    }
+  }
+  const width = used.length;
+  const walks = trees.map((t) => fixedDepthWalk(t, slot));
+  const block = new Float64Array(SCORE_BLOCK * Math.max(1, width));
+  for (let b = 0; b < rows.length; b += SCORE_BLOCK) {
+    const m = Math.min(SCORE_BLOCK, rows.length - b);
+    for (let k = 0; k < width; k++) {
+      const x = columns[used[k]];
+      for (let i = 0; i < m; i++) block[i * width + k] = x[rows[b + i]];
+    }
+    for (let j = 0; j < walks.length; j++) {
+      const { depth, slotOf, threshold, missingLeft, child, value } = walks[j];
+      let i = 0;
+      // four rows at a time: their walks are independent chains of dependent loads, which the
+      // CPU can overlap only when they sit in one loop body
+      for (; i + 4 <= m; i += 4) {
+        const a0 = i * width;
+        const a1 = a0 + width;
+        const a2 = a1 + width;
+        const a3 = a2 + width;
+        let n0 = 0;
+        let n1 = 0;
+        let n2 = 0;
+        let n3 = 0;
+        for (let d = 0; d < depth; d++) {
+          const x0 = block[a0 + slotOf[n0]];
+          const x1 = block[a1 + slotOf[n1]];
+          const x2 = block[a2 + slotOf[n2]];
+          const x3 = block[a3 + slotOf[n3]];
+          // x <= t goes left; NaN (x !== x) goes left exactly when missingLeft
+          n0 = child[2 * n0 + 1 - (+(x0 <= threshold[n0]) | (+(x0 !== x0) & missingLeft[n0]))];
+          n1 = child[2 * n1 + 1 - (+(x1 <= threshold[n1]) | (+(x1 !== x1) & missingLeft[n1]))];
+          n2 = child[2 * n2 + 1 - (+(x2 <= threshold[n2]) | (+(x2 !== x2) & missingLeft[n2]))];
+          n3 = child[2 * n3 + 1 - (+(x3 <= threshold[n3]) | (+(x3 !== x3) & missingLeft[n3]))];
+        }
+        acc[b + i] += value[n0];
+        acc[b + i + 1] += value[n1];
+        acc[b + i + 2] += value[n2];
+        acc[b + i + 3] += value[n3];
+      }
+      for (; i < m; i++) {
+        const at = i * width;
+        let node = 0;
+        for (let d = 0; d < depth; d++) {
+          const x = block[at + slotOf[node]];
+          node = child[2 * node + 1 - (+(x <= threshold[node]) | (+(x !== x) & missingLeft[node]))];
+        }
+        acc[b + i] += value[node];
+      }
+    }
+  }
+}
+
+interface FixedDepthWalk {
+  /** Longest root-to-leaf path. */
+  readonly depth: number;
+  /** Gathered-row position of each node's split column (0 for a leaf, whose children are itself). */
+  readonly slotOf: Int32Array;
+  readonly threshold: Float64Array;
+  readonly missingLeft: Uint8Array;
+  /** child[2k] = left, child[2k + 1] = right; a leaf's are both itself. */
+  readonly child: Int32Array;
+  readonly value: Float64Array;
+}
+
+function fixedDepthWalk(t: RawTree, slot: Int32Array): FixedDepthWalk {
+  const n = t.feature.length;
+  const slotOf = new Int32Array(n);
+  const child = new Int32Array(2 * n);
+  const level = new Int32Array(n);
+  let depth = 0;
+  for (let k = 0; k < n; k++) {
+    const f = t.feature[k];
+    if (f < 0) {
+      child[2 * k] = k;
+      child[2 * k + 1] = k;
+      continue;
+    }
+    slotOf[k] = slot[f];
+    child[2 * k] = t.left[k];
+    child[2 * k + 1] = t.right[k];
+  }
+  // children have higher indices than their parent in every tree the core grows; a depth pass in
+  // index order relies on that, so check it rather than loop forever on a malformed tree
+  for (let k = 0; k < n; k++) {
+    if (t.feature[k] < 0) continue;
+    for (const c of [t.left[k], t.right[k]]) {
+      if (!(c > k && c < n)) throw new TreeParamError('a child must come after its parent', 'child', c);
+      level[c] = level[k] + 1;
+      if (level[c] > depth) depth = level[c];
+    }
+  }
+  return { depth, slotOf, threshold: t.threshold, missingLeft: t.missingLeft, child, value: t.value };
+}
+
 /** Leaf value for each of `rows` on raw values. */
 export function predictRaw(t: RawTree, columns: readonly Float64Array[], rows: Uint32Array, out: Float64Array): void {
   const value = t.value;
