@@ -1,25 +1,29 @@
 /**
  * `npm run bench`: foldstack against the hand-written Python peer (../shared/bench/peer_pipeline.py,
- * scikit-learn + XGBoost) on the same invented demo CSV, measured in the same run on this machine.
- * Prints wall seconds, peak RSS and holdout AUC for both sides, and their ratios.
+ * scikit-learn + XGBoost) on the same CSVs — the invented demo data at 50k and 200k rows, and the
+ * component benchmarks' generated 200k × 30 numeric matrix — measured in the same run on this
+ * machine. Prints wall seconds, peak RSS and holdout AUC for both sides, and their ratios.
  * Never part of `npm test`: timings belong here, not in unit tests.
  *
  *   npm run bench                 # 50k and 200k rows
  *   npm run bench -- 50000        # chosen sizes only
  *   npm run bench -- --no-components   # skip the per-component comparisons
+ *   npm run bench -- --no-matrix       # skip the whole pipeline on the 200k × 30 numeric matrix
  */
 import { existsSync, mkdirSync, readFileSync, rmSync, writeFileSync } from 'node:fs';
 import { spawnSync } from 'node:child_process';
 import { dirname, join } from 'node:path';
 import { fileURLToPath } from 'node:url';
 import { generateDemo } from '../../data-demo/generate.js';
-import { runComponents } from './components.js';
+import { runComponents, writeBenchMatrix } from './components.js';
 
 const root = join(dirname(fileURLToPath(import.meta.url)), '..', '..', '..');
 const out = join(root, 'bench-out');
 const peerScript = join(root, '..', 'shared', 'bench', 'peer_pipeline.py');
 const python = '/usr/bin/python3';
 const SEED = 7;
+const MATRIX_ROWS = 200_000;
+const MATRIX_COLS = 30;
 
 interface Measured {
   seconds: number;
@@ -41,8 +45,17 @@ function peerAvailable(): boolean {
   return spawnSync(python, ['-c', 'import sklearn, xgboost, pandas, scipy'], { stdio: 'ignore' }).status === 0;
 }
 
+const LEARNERS = `learners:
+  lr: {kind: logistic, l2: 1.0}
+  cart: {kind: tree, max_depth: 6, min_leaf: 50}
+  rf: {kind: forest, trees: 200, max_depth: 8, min_leaf: 20}
+  gbm: {kind: boosted, rounds: 300, max_depth: 5, learning_rate: 0.05, subsample: 0.8, colsample: 0.8, early_stop: {rounds: 0}}
+stack: {nonnegative: true}
+evaluate: {budget: 0.1}
+`;
+
 /** The same pipeline as the peer: encodings, per-column trees, z-scores, summaries, dates; LR, CART, forest, boosted trees; stack. */
-function benchConfig(csv: string): string {
+function demoConfig(csv: string): string {
   return `name: bench
 seed: ${SEED}
 data:
@@ -58,14 +71,55 @@ features:
   tree-bins: {max_depth: 3, min_leaf: 0.05, smoothing: 20}
   leaf-z: {}
   summaries: {}
-learners:
-  lr: {kind: logistic, l2: 1.0}
-  cart: {kind: tree, max_depth: 6, min_leaf: 50}
-  rf: {kind: forest, trees: 200, max_depth: 8, min_leaf: 20}
-  gbm: {kind: boosted, rounds: 300, max_depth: 5, learning_rate: 0.05, subsample: 0.8, colsample: 0.8, early_stop: {rounds: 0}}
-stack: {nonnegative: true}
-evaluate: {budget: 0.1}
-`;
+${LEARNERS}`;
+}
+
+/** The same pipeline on an all-numeric matrix: per-column trees, z-scores, summaries; the same learners and stack. */
+function matrixConfig(csv: string): string {
+  return `name: bench-matrix
+seed: ${SEED}
+data:
+  file: ${csv}
+  target: y
+  positive: "1"
+split: {folds: 5, holdout: {fraction: 0.2}}
+features:
+  tree-bins: {max_depth: 3, min_leaf: 0.05, smoothing: 20}
+  leaf-z: {}
+  summaries: {}
+${LEARNERS}`;
+}
+
+interface PipelineCase {
+  /** File-name stem of the case's config, cache and peer result. */
+  readonly name: string;
+  /** Printed at the start of its line. */
+  readonly label: string;
+  readonly csv: string;
+  readonly config: string;
+  readonly peerArgs: string[];
+}
+
+/** One pipeline comparison: foldstack cold and cached, then the peer, on the same CSV; returns the printed line. */
+function comparePipelines(c: PipelineCase, peer: boolean): string {
+  const cfg = join(out, `bench-${c.name}.yaml`);
+  writeFileSync(cfg, c.config);
+  const cacheDir = join(out, `cache-${c.name}`);
+  rmSync(cacheDir, { recursive: true, force: true });
+  const cli = [join(root, 'dist', 'pipeline', 'cli.js'), 'run', cfg, '--workers', '2', '--runs-dir', join(out, 'runs'), '--cache-dir', cacheDir];
+  const fs = timed(process.execPath, cli, root);
+  const runDir = fs.stdout.trim().split('\n').pop()!;
+  const metrics = JSON.parse(readFileSync(join(runDir, 'metrics.json'), 'utf8')) as { holdout: { stack: { auc: number } } };
+  const ours: Measured = { ...fs.m, auc: metrics.holdout.stack.auc };
+  const warm = timed(process.execPath, cli, root).m;
+  let line = `${c.label}: foldstack ${ours.seconds.toFixed(1)} s, ${ours.rssMb.toFixed(0)} MB, stack AUC ${ours.auc?.toFixed(4)}; cached re-run ${warm.seconds.toFixed(1)} s`;
+  if (peer) {
+    const resFile = join(out, `peer-${c.name}.json`);
+    const p = timed(python, [peerScript, '--data', c.csv, ...c.peerArgs, '--seed', String(SEED), '--threads', '2', '--out', resFile], root).m;
+    const res = JSON.parse(readFileSync(resFile, 'utf8')) as { metrics: { stack: { roc_auc: number } } };
+    line += ` | peer ${p.seconds.toFixed(1)} s, ${p.rssMb.toFixed(0)} MB, stack AUC ${res.metrics.stack.roc_auc.toFixed(4)} | ratio time ${(ours.seconds / p.seconds).toFixed(3)}×, RSS ${(ours.rssMb / p.rssMb).toFixed(3)}×`;
+  }
+  return line;
 }
 
 async function main(): Promise<void> {
@@ -75,33 +129,25 @@ async function main(): Promise<void> {
   const peer = peerAvailable();
   if (!peer) process.stderr.write('peer skipped: needs Debian python3-sklearn python3-xgboost python3-pandas python3-scipy and ../shared/bench/peer_pipeline.py\n');
   const lines: string[] = [];
+  const report = (line: string): void => {
+    process.stdout.write(line + '\n');
+    lines.push(line);
+  };
   for (const rows of rowsList) {
     const csv = join(out, `demo-${rows}.csv`);
     if (!existsSync(csv)) await generateDemo({ rows, seed: SEED, out: csv });
-    const cfg = join(out, `bench-${rows}.yaml`);
-    writeFileSync(cfg, benchConfig(csv));
-    const cacheDir = join(out, `cache-${rows}`);
-    rmSync(cacheDir, { recursive: true, force: true });
-    const fs = timed(process.execPath, [join(root, 'dist', 'pipeline', 'cli.js'), 'run', cfg, '--workers', '2', '--runs-dir', join(out, 'runs'), '--cache-dir', cacheDir], root);
-    const runDir = fs.stdout.trim().split('\n').pop()!;
-    const metrics = JSON.parse(readFileSync(join(runDir, 'metrics.json'), 'utf8')) as { holdout: { stack: { auc: number } } };
-    const ours: Measured = { ...fs.m, auc: metrics.holdout.stack.auc };
-    const warm = timed(process.execPath, [join(root, 'dist', 'pipeline', 'cli.js'), 'run', cfg, '--workers', '2', '--runs-dir', join(out, 'runs'), '--cache-dir', cacheDir], root).m;
-    let line = `${rows} rows: foldstack ${ours.seconds.toFixed(1)} s, ${ours.rssMb.toFixed(0)} MB, stack AUC ${ours.auc?.toFixed(4)}; cached re-run ${warm.seconds.toFixed(1)} s`;
-    if (peer) {
-      const resFile = join(out, `peer-${rows}.json`);
-      const p = timed(python, [peerScript, '--data', csv, '--target', 'missed_payment_90d', '--positive', 'yes', '--id', 'application_id', '--date-cols', 'applied_on,registered_on', '--drop-cols', 'owner_age_band', '--seed', String(SEED), '--threads', '2', '--out', resFile], root).m;
-      const res = JSON.parse(readFileSync(resFile, 'utf8')) as { metrics: { stack: { roc_auc: number } } };
-      line += ` | peer ${p.seconds.toFixed(1)} s, ${p.rssMb.toFixed(0)} MB, stack AUC ${res.metrics.stack.roc_auc.toFixed(4)} | ratio time ${(ours.seconds / p.seconds).toFixed(3)}×, RSS ${(ours.rssMb / p.rssMb).toFixed(3)}×`;
-    }
-    process.stdout.write(line + '\n');
-    lines.push(line);
+    const peerArgs = ['--target', 'missed_payment_90d', '--positive', 'yes', '--id', 'application_id', '--date-cols', 'applied_on,registered_on', '--drop-cols', 'owner_age_band'];
+    report(comparePipelines({ name: String(rows), label: `${rows} rows (demo data)`, csv, config: demoConfig(csv), peerArgs }, peer));
+  }
+  if (!process.argv.includes('--no-matrix')) {
+    // the 200k × 30 numeric matrix of the component benchmarks, through the whole pipeline on both sides
+    const csv = join(out, `matrix-${MATRIX_ROWS}x${MATRIX_COLS}.csv`);
+    if (!existsSync(csv)) writeBenchMatrix(csv, MATRIX_ROWS, MATRIX_COLS);
+    const label = `${MATRIX_ROWS} × ${MATRIX_COLS} numeric matrix`;
+    report(comparePipelines({ name: `matrix-${MATRIX_ROWS}x${MATRIX_COLS}`, label, csv, config: matrixConfig(csv), peerArgs: ['--target', 'y', '--positive', '1'] }, peer));
   }
   if (!process.argv.includes('--no-components')) {
-    for (const line of runComponents(out, peer ? python : undefined)) {
-      process.stdout.write(line + '\n');
-      lines.push(line);
-    }
+    for (const line of runComponents(out, peer ? python : undefined, MATRIX_ROWS, MATRIX_COLS)) report(line);
   }
   writeFileSync(join(out, 'summary.txt'), lines.join('\n') + '\n');
 }

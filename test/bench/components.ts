@@ -35,6 +35,12 @@ function makeData(n: number, p: number, seed: number): { X: Float64Array[]; y: U
   return { X, y };
 }
 
+/** The components' matrix (seed 1) as a CSV with columns x0..x{p-1}, y; the pipeline bench runs on it too. */
+export function writeBenchMatrix(path: string, n: number, p: number): void {
+  const { X, y } = makeData(n, p, 1);
+  writeCsv(path, X, y);
+}
+
 function writeCsv(path: string, X: Float64Array[], y: Uint8Array): void {
   const n = y.length;
   const lines: string[] = [[...X.map((_, j) => `x${j}`), 'y'].join(',')];
