@@ -17,6 +17,8 @@
  * the result (`converged: false`, `status`, `message`), never thrown: a caller fitting many folds
  * wants the number and the warning, not an aborted run. Bad inputs are thrown as LogisticInputError.
  */
+import { KernelArena } from './kernel/arena.js';
+import { gramBlock } from './kernel/gram.js';
 
 export interface LogisticFitOptions {
   /** Ridge penalty (l2/2)·‖β‖² on the coefficients; the intercept is never penalized. */
@@ -94,6 +96,23 @@ export function fitLogistic(
   y: Uint8Array,
   opts: LogisticFitOptions,
 ): LogisticFit {
+  const d = X.length + 1;
+  // the Hessian's row blocks and the Hessian itself, for the Gram kernel (kernel/gram.ts)
+  const arena = KernelArena.open(8 * (2 * d * ROW_BLOCK + d * d) + 64);
+  try {
+    return fitLogisticIn(X, rows, y, opts, arena);
+  } finally {
+    arena?.close();
+  }
+}
+
+function fitLogisticIn(
+  X: readonly Float64Array[],
+  rows: Uint32Array,
+  y: Uint8Array,
+  opts: LogisticFitOptions,
+  arena: KernelArena | null,
+): LogisticFit {
   const p = X.length;
   const d = p + 1;
   const n = rows.length;
@@ -132,10 +151,10 @@ export function fitLogistic(
     etaTry: new Float64Array(n),
     s: new Float64Array(n),
     resid: new Float64Array(n),
-    blockZ: new Float64Array(d * ROW_BLOCK),
-    blockSZ: new Float64Array(d * ROW_BLOCK),
+    blockZ: arena?.f64(d * ROW_BLOCK) ?? new Float64Array(d * ROW_BLOCK),
+    blockSZ: arena?.f64(d * ROW_BLOCK) ?? new Float64Array(d * ROW_BLOCK),
   };
-  const H = new Float64Array(d * d);
+  const H = arena?.f64(d * d) ?? new Float64Array(d * d);
   const L = new Float64Array(d * d);
   const g = new Float64Array(d);
   const dir = new Float64Array(d);
@@ -312,6 +331,7 @@ function objective(ws: Workspace, theta: Float64Array, eta: Float64Array): numbe
  * cache while every pair of columns is multiplied over them. Streaming all n rows once per pair
  * instead moved gigabytes per iteration for wide inputs and left the CPU waiting on memory.
  */
+/** Even, so an odd last block has room for gramBlock's zero padding row. */
 const ROW_BLOCK = 256;
 
 /** Gradient g and the full Hessian H (row-major d×d, both triangles) at `theta`, whose η is ws.eta. */
@@ -363,68 +383,7 @@ function derivatives(ws: Workspace, theta: Float64Array, g: Float64Array, H: Flo
       }
       g[j + 1] += gj;
     }
-    // Rows a and a + 1 of the lower triangle together, four columns at a time: each loaded value
-    // feeds two of the eight accumulators, which is where the time goes for wide inputs.
-    let a = 0;
-    for (; a + 1 < d; a += 2) {
-      const sa = a * B;
-      const sb = sa + B;
-      let k = 0;
-      for (; k + 3 <= a; k += 4) {
-        const z0 = k * B;
-        const z1 = z0 + B;
-        const z2 = z1 + B;
-        const z3 = z2 + B;
-        let a0 = 0, a1 = 0, a2 = 0, a3 = 0, b0 = 0, b1 = 0, b2 = 0, b3 = 0;
-        for (let t = 0; t < m; t++) {
-          const u = SZ[sa + t];
-          const v = SZ[sb + t];
-          const w0 = Z[z0 + t];
-          const w1 = Z[z1 + t];
-          const w2 = Z[z2 + t];
-          const w3 = Z[z3 + t];
-          a0 += u * w0;
-          a1 += u * w1;
-          a2 += u * w2;
-          a3 += u * w3;
-          b0 += v * w0;
-          b1 += v * w1;
-          b2 += v * w2;
-          b3 += v * w3;
-        }
-        const ra = a * d + k;
-        const rb = ra + d;
-        H[ra] += a0;
-        H[ra + 1] += a1;
-        H[ra + 2] += a2;
-        H[ra + 3] += a3;
-        H[rb] += b0;
-        H[rb + 1] += b1;
-        H[rb + 2] += b2;
-        H[rb + 3] += b3;
-      }
-      for (; k <= a + 1; k++) {
-        const zk = k * B;
-        let accA = 0;
-        let accB = 0;
-        for (let t = 0; t < m; t++) {
-          const w = Z[zk + t];
-          accA += SZ[sa + t] * w;
-          accB += SZ[sb + t] * w;
-        }
-        if (k <= a) H[a * d + k] += accA;
-        H[(a + 1) * d + k] += accB;
-      }
-    }
-    for (; a < d; a++) {
-      const sa = a * B;
-      for (let k = 0; k <= a; k++) {
-        const zk = k * B;
-        let acc = 0;
-        for (let t = 0; t < m; t++) acc += SZ[sa + t] * Z[zk + t];
-        H[a * d + k] += acc;
-      }
-    }
+    gramBlock(Z, SZ, H, d, B, m);
   }
   for (let a = 1; a < d; a++) {
     g[a] += l2 * theta[a];

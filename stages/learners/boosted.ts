@@ -15,7 +15,7 @@
 import { allocCodes, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, type BinCodes } from '../core/tree/bin.js';
 import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes, type GrowOptions } from '../core/tree/grow.js';
 import { STATS_NO_COUNT } from '../core/tree/histogram.js';
-import { TreeArena } from '../core/tree/kernel/arena.js';
+import { KernelArena } from '../core/kernel/arena.js';
 import { addLeafValuesBinned, addTreeValuesRaw, treeFromJson, treeToJson, type FlatTreeJson } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput, Rng } from '../types.js';
 
@@ -253,7 +253,7 @@ function gradientsAndLoss(margin: Float64Array, y: Uint8Array, rows: Uint32Array
 }
 
 function fitBoosted(input: LearnerFitInput<BoostedConfig>): BoostedModel {
-  const arena = TreeArena.open(treeArenaBytes(input.rows.length, input.features.length, STATS_NO_COUNT, liveHistograms(input.config.max_depth, false)));
+  const arena = KernelArena.open(treeArenaBytes(input.rows.length, input.features.length, STATS_NO_COUNT, liveHistograms(input.config.max_depth, false)));
   try {
     return fitBoostedIn(input, arena);
   } finally {
@@ -262,7 +262,7 @@ function fitBoosted(input: LearnerFitInput<BoostedConfig>): BoostedModel {
 }
 
 /** Codes, gradients, hessians and tree buffers come from `arena` while it has room (see kernel/arena.ts). */
-function fitBoostedIn({ features, names, rows, target, config, rng }: LearnerFitInput<BoostedConfig>, arena: TreeArena | null): BoostedModel {
+function fitBoostedIn({ features, names, rows, target, config, rng }: LearnerFitInput<BoostedConfig>, arena: KernelArena | null): BoostedModel {
   if (features.length !== names.length) throw new BoostedInputError(`${features.length} feature columns but ${names.length} names`, names.length, features.length);
   const n = rows.length;
   const p = features.length;

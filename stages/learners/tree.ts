@@ -10,7 +10,7 @@ import { compactTree, loadCompactTree, type CompactTree } from '../core/tree/com
 import { TreeParamError } from '../core/tree/errors.js';
 import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes } from '../core/tree/grow.js';
 import { STATS } from '../core/tree/histogram.js';
-import { TreeArena } from '../core/tree/kernel/arena.js';
+import { KernelArena } from '../core/kernel/arena.js';
 import { predictRaw, type FlatTree } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput } from '../types.js';
 
@@ -58,7 +58,7 @@ export const tree: Learner<TreeConfig, TreeModel> = {
     const mappers = features.map((x) => fitNumericBins(x, rows, config.max_bins));
     const nBins = Int32Array.from(mappers, valueBinCount);
     const minLeaf = minLeafCount(config.min_leaf, n);
-    const arena = TreeArena.open(treeArenaBytes(n, features.length, STATS, liveHistograms(config.max_depth, false)));
+    const arena = KernelArena.open(treeArenaBytes(n, features.length, STATS, liveHistograms(config.max_depth, false)));
     let grown: FlatTree;
     try {
       const codes = features.map((x, c) => {

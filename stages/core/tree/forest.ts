@@ -17,7 +17,7 @@ import { binThresholds, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, valueBinC
 import { TreeParamError } from './errors.js';
 import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes } from './grow.js';
 import { STATS } from './histogram.js';
-import type { TreeArena } from './kernel/arena.js';
+import type { KernelArena } from '../kernel/arena.js';
 import type { FlatTree } from './predict.js';
 
 /** Numeric columns binned over the fit rows: local row i is fit row rows[i]. */
@@ -29,7 +29,7 @@ export interface BinnedMatrix {
 }
 
 /** With an arena, the codes live in the histogram kernel's memory while it has room (kernel/arena.ts). */
-export function binMatrix(features: readonly Float64Array[], rows: Uint32Array, arena: TreeArena | null = null): BinnedMatrix {
+export function binMatrix(features: readonly Float64Array[], rows: Uint32Array, arena: KernelArena | null = null): BinnedMatrix {
   const mappers = features.map((x) => fitNumericBins(x, rows, MAX_UINT8_BINS));
   const codes = features.map((x, c) => {
     const out = arena?.u8(rows.length) ?? new Uint8Array(rows.length);
@@ -77,7 +77,7 @@ export function validateForestParams(p: ForestParams): void {
 }
 
 /**
- * Bytes a forest fit on `rows` × `cols` asks its TreeArena for (binMatrix's codes and growForest's
+ * Bytes a forest fit on `rows` × `cols` asks its KernelArena for (binMatrix's codes and growForest's
  * buffers), so that both can share one arena.
  */
 export function forestArenaBytes(rows: number, cols: number, p: Pick<ForestParams, 'maxDepth' | 'featuresPerSplit'>): number {
@@ -88,7 +88,7 @@ export function forestArenaBytes(rows: number, cols: number, p: Pick<ForestParam
  * Grows the forest on all local rows of `m`; `y[i]` is local row i's 0/1 target. With an arena,
  * the per-tree buffers come from the histogram kernel's memory (kernel/arena.ts).
  */
-export function growForest(m: BinnedMatrix, y: Uint8Array, p: ForestParams, rng: Rng, arena: TreeArena | null = null): ForestFit {
+export function growForest(m: BinnedMatrix, y: Uint8Array, p: ForestParams, rng: Rng, arena: KernelArena | null = null): ForestFit {
   validateForestParams(p);
   const n = m.n;
   const nCols = m.codes.length;

@@ -20,7 +20,7 @@ import type { Rng } from '../../types.js';
 import type { BinCodes } from './bin.js';
 import { TreeParamError } from './errors.js';
 import { HistogramPool, STATS, STATS_NO_COUNT, accumulate, histogramLayout, subtractInPlace } from './histogram.js';
-import type { TreeArena } from './kernel/arena.js';
+import type { KernelArena } from '../kernel/arena.js';
 import type { FlatTree } from './predict.js';
 import { SplitResult, findBestSplit, type SplitParams } from './split.js';
 
@@ -61,7 +61,7 @@ export class GrowWorkspace {
    * row buffers are then sized for `maxRows` at once, as the arena cannot take them back.
    */
   constructor(
-    private readonly arena: TreeArena | null = null,
+    private readonly arena: KernelArena | null = null,
     private readonly maxRows = 0,
   ) {}
 
@@ -87,7 +87,7 @@ export class GrowWorkspace {
 }
 
 /**
- * Bytes a fit on `rows` local rows × `cols` 8-bit columns asks its TreeArena for: the codes, the
+ * Bytes a fit on `rows` local rows × `cols` 8-bit columns asks its KernelArena for: the codes, the
  * gradient and hessian arrays, the workspace's row buffers, and `hists` histograms of up to 256
  * slots per column with `stats` values each.
  */

@@ -9,7 +9,7 @@
  * fewer read-modify-writes in the loop where boosting spends most of its time.
  */
 import type { BinCodes } from './bin.js';
-import { accumulateInKernel, type TreeArena } from './kernel/arena.js';
+import { accumulateInKernel, type KernelArena } from '../kernel/arena.js';
 
 /** Values stored per bin: gradient sum, hessian sum, row count. */
 export const STATS = 3;
@@ -309,7 +309,7 @@ export class HistogramPool {
   private readonly free: Float64Array[] = [];
   constructor(
     private readonly size: number,
-    private readonly arena: TreeArena | null = null,
+    private readonly arena: KernelArena | null = null,
   ) {}
 
   take(): Float64Array {

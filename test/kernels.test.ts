@@ -1,11 +1,13 @@
 /**
- * The WebAssembly histogram kernel (stages/core/tree/kernel/). It is a speed path only: every sum
- * it produces must equal, bit for bit, what the TypeScript loops produce, and a fit must grow the
- * same trees whether or not it runs. The reference here is the project's own TypeScript loop,
- * itself checked against scikit-learn, rpart and XGBoost in tree-core, tree-bins and boosted tests.
+ * The WebAssembly kernels (stages/core/kernel/): histogram accumulation for the tree core and the
+ * Gram (Hessian) block for the logistic fit. They are a speed path only: every sum must equal, bit
+ * for bit, what their TypeScript twins produce, and a fit must give the same model whether or not
+ * they run. The references here are the project's own TypeScript loops, themselves checked against
+ * scikit-learn, rpart and XGBoost in the tree-core, tree-bins, boosted and logistic tests; the Gram
+ * block is also checked against a plain double loop.
  *
- * `UPDATE_KERNEL=1 npx vitest run test/tree-kernel.test.ts` recompiles histogram.wat into
- * binary.ts (WABT 1.0.39, the `wabt` npm package); without it, the test fails when they differ.
+ * `UPDATE_KERNEL=1 npx vitest run test/kernels.test.ts` recompiles kernels.wat into binary.ts
+ * (WABT 1.0.39, the `wabt` npm package); without it, the test fails when they differ.
  */
 import { readFileSync, writeFileSync } from 'node:fs';
 import { join } from 'node:path';
@@ -14,16 +16,18 @@ import { describe, expect, it } from 'vitest';
 import { boosted, resolveBoostedConfig } from '../stages/learners/boosted.js';
 import { forest } from '../stages/learners/forest.js';
 import { tree } from '../stages/learners/tree.js';
+import { logistic } from '../stages/learners/logistic.js';
+import { gramBlock } from '../stages/core/kernel/gram.js';
 import { accumulate, histogramLayout, STATS, STATS_NO_COUNT } from '../stages/core/tree/histogram.js';
-import { accumulateInKernel, kernelAvailable, TreeArena } from '../stages/core/tree/kernel/arena.js';
-import { KERNEL_WASM_BASE64 } from '../stages/core/tree/kernel/binary.js';
+import { accumulateInKernel, kernelAvailable, KernelArena } from '../stages/core/kernel/arena.js';
+import { KERNEL_WASM_BASE64 } from '../stages/core/kernel/binary.js';
 import { createRng } from '../pipeline/rng.js';
 import { iota, testRng } from './helpers/seeded.js';
 
-const KERNEL_DIR = join(import.meta.dirname, '..', 'stages', 'core', 'tree', 'kernel');
+const KERNEL_DIR = join(import.meta.dirname, '..', 'stages', 'core', 'kernel');
 
 /** Plain or arena-backed copies of the same data; `arena` null gives plain arrays. */
-function histogramCase(seed: number, n: number, nBinsPerCol: number[], arena: TreeArena | null) {
+function histogramCase(seed: number, n: number, nBinsPerCol: number[], arena: KernelArena | null) {
   const rng = testRng(seed);
   const u8 = (k: number) => arena?.u8(k) ?? new Uint8Array(k);
   const f64 = (k: number) => arena?.f64(k) ?? new Float64Array(k);
@@ -47,17 +51,17 @@ function histogramCase(seed: number, n: number, nBinsPerCol: number[], arena: Tr
 }
 
 describe('histogram kernel', () => {
-  it('is the compiled form of histogram.wat', async () => {
+  it('is the compiled form of kernels.wat', async () => {
     const wabt = await wabtInit();
-    const src = readFileSync(join(KERNEL_DIR, 'histogram.wat'), 'utf8');
-    const mod = wabt.parseWat('histogram.wat', src);
+    const src = readFileSync(join(KERNEL_DIR, 'kernels.wat'), 'utf8');
+    const mod = wabt.parseWat('kernels.wat', src);
     mod.validate();
     const compiled = Buffer.from(mod.toBinary({}).buffer).toString('base64');
     mod.destroy();
     if (process.env.UPDATE_KERNEL) {
       writeFileSync(
         join(KERNEL_DIR, 'binary.ts'),
-        `// Generated from histogram.wat by \`UPDATE_KERNEL=1 npx vitest run test/tree-kernel.test.ts\`; do not edit.\nexport const KERNEL_WASM_BASE64 =\n  '${compiled}';\n`,
+        `// Generated from kernels.wat by \`UPDATE_KERNEL=1 npx vitest run test/kernels.test.ts\`; do not edit.\nexport const KERNEL_WASM_BASE64 =\n  '${compiled}';\n`,
       );
       return;
     }
@@ -80,7 +84,7 @@ describe('histogram kernel', () => {
         const expected = new Float64Array(layout.size).fill(NaN);
         accumulate(expected, layout, plain.codes, cols, nCols, plain.order, 3, plain.order.length - 2, plain.grad, plain.hess);
 
-        const arena = TreeArena.open(n * (nBins.length + 40) + layout.size * 8 + 4096);
+        const arena = KernelArena.open(n * (nBins.length + 40) + layout.size * 8 + 4096);
         expect(arena).not.toBeNull();
         try {
           const a = histogramCase(nCols, n, nBins, arena);
@@ -103,7 +107,7 @@ describe('histogram kernel', () => {
     const nBins = [4, 9, 6];
     const layout = histogramLayout(Int32Array.from(nBins), STATS);
     const cols = Int32Array.from([0, 1, 2]);
-    const arena = TreeArena.open(64 * 1024);
+    const arena = KernelArena.open(64 * 1024);
     try {
       const a = histogramCase(3, n, nBins, arena);
       const hist = arena!.f64(layout.size)!;
@@ -122,28 +126,28 @@ describe('histogram kernel', () => {
   });
 
   it('opens one arena per thread at a time, hands out zeroed views, and returns null when full', () => {
-    const a = TreeArena.open(1024);
+    const a = KernelArena.open(1024);
     expect(a).not.toBeNull();
-    expect(TreeArena.open(16)).toBeNull();
+    expect(KernelArena.open(16)).toBeNull();
     const x = a!.f64(16)!;
     x.fill(7);
     a!.close();
     a!.close();
     expect(a!.f64(1)).toBeNull();
-    const b = TreeArena.open(1024)!;
+    const b = KernelArena.open(1024)!;
     expect(b).not.toBeNull();
     // the same memory again: fresh views must not show the last fit's values
     expect(Array.from(b.f64(16)!)).toEqual(new Array(16).fill(0));
     expect(b.u8(1 << 30)).toBeNull();
     b.close();
-    expect(TreeArena.open(2 ** 31)).toBeNull();
+    expect(KernelArena.open(2 ** 31)).toBeNull();
   });
 });
 
 /** A learner's model with and without the kernel: holding an arena open makes the fit fall back to plain arrays. */
 function withAndWithout<T>(fit: () => T): { kernel: T; plain: T } {
   const kernel = fit();
-  const hold = TreeArena.open(0);
+  const hold = KernelArena.open(0);
   expect(hold).not.toBeNull();
   try {
     return { kernel, plain: fit() };
@@ -188,5 +192,66 @@ describe('learners grow the same trees with and without the kernel', () => {
       expect(r.kernel.tree.feature.filter((f: number) => f >= 0).length).toBeGreaterThan(5);
       expect(JSON.stringify(r.kernel)).toBe(JSON.stringify(r.plain));
     }
+  });
+});
+
+describe('Gram kernel', () => {
+  /** Z and SZ blocks (d columns of B values) and a d × d H, in the arena when given. */
+  function gramCase(seed: number, d: number, B: number, arena: KernelArena | null) {
+    const rng = testRng(seed);
+    const f64 = (k: number) => arena?.f64(k) ?? new Float64Array(k);
+    const Z = f64(d * B);
+    const SZ = f64(d * B);
+    const H = f64(d * d);
+    for (let i = 0; i < d * B; i++) {
+      Z[i] = rng.next() * 6 - 3;
+      SZ[i] = Z[i] * rng.next() * 0.25;
+    }
+    for (let i = 0; i < d * d; i++) H[i] = rng.next();
+    return { Z, SZ, H };
+  }
+
+  it('gives bit-identical Hessian blocks to its TypeScript twin, and the plain double loop to 1e-12', () => {
+    const B = 64;
+    for (const d of [1, 2, 3, 4, 5, 6, 7, 9, 14]) {
+      for (const m of [1, 2, 3, 8, 63, 64]) {
+        const plain = gramCase(d * 100 + m, d, B, null);
+        const start = Float64Array.from(plain.H);
+        gramBlock(plain.Z, plain.SZ, plain.H, d, B, m);
+        const arena = KernelArena.open(8 * (3 * d * B + d * d) + 256);
+        expect(arena).not.toBeNull();
+        try {
+          const k = gramCase(d * 100 + m, d, B, arena);
+          gramBlock(k.Z, k.SZ, k.H, d, B, m);
+          expect(Array.from(k.H)).toEqual(Array.from(plain.H));
+        } finally {
+          arena?.close();
+        }
+        // the definition: lower triangle gains Σ_t SZ[a][t]·Z[k][t]; the upper triangle is untouched
+        const ref = gramCase(d * 100 + m, d, B, null);
+        for (let a = 0; a < d; a++) {
+          for (let k = 0; k < d; k++) {
+            if (k > a) {
+              expect(plain.H[a * d + k]).toBe(start[a * d + k]);
+              continue;
+            }
+            let sum = 0;
+            for (let t = 0; t < m; t++) sum += ref.SZ[a * B + t] * ref.Z[k * B + t];
+            expect(Math.abs(plain.H[a * d + k] - (start[a * d + k] + sum))).toBeLessThan(1e-12 * (1 + Math.abs(sum)));
+          }
+        }
+      }
+    }
+  });
+
+  it('the logistic learner fits the same model with and without it', () => {
+    const n = 3001;
+    const rng = testRng(17);
+    const features = Array.from({ length: 9 }, (_, j) => Float64Array.from({ length: n }, () => rng.next() * (j + 1)));
+    const target = Uint8Array.from({ length: n }, (_, i) => (rng.next() < 1 / (1 + Math.exp(-(features[0][i] - 0.3 * features[3][i] + 0.5))) ? 1 : 0));
+    const names = features.map((_, j) => `x${j}`);
+    const config = logistic.resolveConfig({ l2: 1 });
+    const r = withAndWithout(() => logistic.fit({ features, names, rows: iota(n), target, config, rng: createRng(1, 'lr') }));
+    expect(JSON.stringify(r.kernel)).toBe(JSON.stringify(r.plain));
   });
 });

@@ -1,26 +1,26 @@
 /**
- * The tree core's WebAssembly histogram kernel (histogram.wat) and the one memory per thread it
- * works in.
+ * The WebAssembly kernels (kernels.wat) and the one memory per thread they work in.
  *
  * Why: building histograms is most of the time of boosting and forests, and in plain TypeScript
- * each row-column update costs two or three bounds-checked read-modify-writes. The kernel adds a
- * row's (gradient, hessian) pair to its slot as one 128-bit SIMD add and ran ~3× faster on the
- * same loop (1.0 vs 3–4 ns per update on 100k rows × 8 columns, this machine). Its sums are
- * bit-identical to the TypeScript loops (same additions per slot, in the same row order), so
- * whether it runs changes timing only, never a fitted tree.
+ * each row-column update costs two or three bounds-checked read-modify-writes. The histogram
+ * kernel adds a row's (gradient, hessian) pair to its slot as one 128-bit SIMD add and ran ~3×
+ * faster on the same loop (1.0 vs 3–4 ns per update on 100k rows × 8 columns, this machine). The
+ * Gram kernel does the same for the logistic Hessian's multiply-adds, two rows per f64x2. Each
+ * kernel has a TypeScript twin (tree/histogram.ts, gram.ts) that adds in exactly the same order,
+ * so whether a kernel runs changes timing only, never a fitted model.
  *
- * A WebAssembly function can only read its own memory, so a fit that wants the kernel allocates
- * its codes, gradients, hessians, row order and histograms from a `TreeArena` (views into that
- * memory). `accumulateInKernel` runs the kernel only when every array it would read is such a
- * view; anything else — a runtime without WebAssembly SIMD, an arena that ran out of room, a
- * second fit asking while one is open, 16-bit codes — falls back to the TypeScript loops.
+ * A WebAssembly function can only read its own memory, so a fit that wants a kernel allocates
+ * the arrays it reads from a `KernelArena` (views into that memory). A kernel runs only when
+ * every array it would read is such a view; anything else — a runtime without WebAssembly SIMD,
+ * an arena that ran out of room, a second fit asking while one is open, 16-bit codes — falls
+ * back to the twin.
  *
- * The memory only grows (WebAssembly memories cannot shrink), and only in `TreeArena.open`, when
+ * The memory only grows (WebAssembly memories cannot shrink), and only in `KernelArena.open`, when
  * no view into it is alive: growing detaches every existing view.
  */
 import { KERNEL_WASM_BASE64 } from './binary.js';
 
-/** Bytes [0, PARAM_BYTES) pass the per-call column addresses (see histogram.wat). */
+/** Bytes [0, PARAM_BYTES) pass the per-call column addresses (see kernels.wat). */
 const PARAM_BYTES = 32768;
 /** Columns one kernel call can take: PARAM_BYTES / 2 / 4. */
 export const MAX_KERNEL_COLUMNS = 4096;
@@ -29,11 +29,13 @@ const PAGE_BYTES = 65536;
 export const MAX_ARENA_BYTES = 1 << 30;
 
 type AccumulateFn = (nCols: number, order: number, start: number, end: number, grad: number, hess: number) => void;
+type GramFn = (z: number, sz: number, h: number, d: number, b: number, m: number) => void;
 
 interface Kernel {
   readonly memory: WebAssembly.Memory;
   readonly acc2: AccumulateFn;
   readonly acc3: AccumulateFn;
+  readonly gram: GramFn;
 }
 
 let loaded: Kernel | null | undefined;
@@ -45,16 +47,16 @@ function kernel(): Kernel | null {
   if (loaded !== undefined) return loaded;
   try {
     const instance = new WebAssembly.Instance(new WebAssembly.Module(Buffer.from(KERNEL_WASM_BASE64, 'base64')));
-    const e = instance.exports as { memory: WebAssembly.Memory; acc2: AccumulateFn; acc3: AccumulateFn };
-    loaded = { memory: e.memory, acc2: e.acc2, acc3: e.acc3 };
+    const e = instance.exports as { memory: WebAssembly.Memory; acc2: AccumulateFn; acc3: AccumulateFn; gram: GramFn };
+    loaded = { memory: e.memory, acc2: e.acc2, acc3: e.acc3, gram: e.gram };
   } catch {
-    // no WebAssembly SIMD here: every histogram is built by the TypeScript loops instead
+    // no WebAssembly SIMD here: the TypeScript twins do all the work
     loaded = null;
   }
   return loaded;
 }
 
-/** True when this runtime compiled the kernel. */
+/** True when this runtime compiled the kernels. */
 export function kernelAvailable(): boolean {
   return kernel() !== null;
 }
@@ -63,7 +65,7 @@ export function kernelAvailable(): boolean {
  * Bump allocation of zero-filled views into the kernel's memory for the length of one fit.
  * Allocations that do not fit return null; callers then use plain typed arrays.
  */
-export class TreeArena {
+export class KernelArena {
   private top = PARAM_BYTES;
   private closed = false;
 
@@ -73,7 +75,7 @@ export class TreeArena {
    * An arena with room for at least `bytes`, or null when the kernel is unavailable, another arena
    * is open on this thread, or `bytes` exceeds MAX_ARENA_BYTES. Close it when the fit ends.
    */
-  static open(bytes: number): TreeArena | null {
+  static open(bytes: number): KernelArena | null {
     const k = kernel();
     if (k === null || arenaOpen || !(bytes >= 0 && bytes <= MAX_ARENA_BYTES)) return null;
     const need = PARAM_BYTES + bytes;
@@ -86,7 +88,7 @@ export class TreeArena {
       }
     }
     arenaOpen = true;
-    return new TreeArena(k.memory);
+    return new KernelArena(k.memory);
   }
 
   /** The memory is not shared, so its buffer is a plain ArrayBuffer. */
@@ -157,5 +159,18 @@ export function accumulateInKernel(
     params[MAX_KERNEL_COLUMNS + j] = hist.byteOffset + offset[c] * slotBytes;
   }
   (stats === 3 ? k.acc3 : k.acc2)(nCols, order.byteOffset, start, end, grad.byteOffset, hess.byteOffset);
+  return true;
+}
+
+/**
+ * Runs the Gram kernel (see kernels.wat and gram.ts) when Z, SZ and H are views into the kernel's
+ * memory; returns false, having done nothing, otherwise.
+ */
+export function gramInKernel(Z: Float64Array, SZ: Float64Array, H: Float64Array, d: number, B: number, m: number): boolean {
+  const k = loaded;
+  if (!k) return false;
+  const buf = k.memory.buffer;
+  if (Z.buffer !== buf || SZ.buffer !== buf || H.buffer !== buf) return false;
+  k.gram(Z.byteOffset, SZ.byteOffset, H.byteOffset, d, B, m);
   return true;
 }
