@@ -125,7 +125,9 @@ describe('prune', () => {
 describe('scheduler', () => {
   it('runs on schedule, skips ticks while a run is in progress, and stops cleanly mid-run', async () => {
     const dir = tempDir('schedule');
-    await generateDemo({ rows: 1500, seed: 5, out: join(dir, 'data.csv') });
+    // 12,000 rows: a run takes ~2 s here, well over the one-second tick (1,500 rows took ~0.8 s
+    // once cache writes stopped syncing, and then no tick fell inside a run)
+    await generateDemo({ rows: 12_000, seed: 5, out: join(dir, 'data.csv') });
     const configFile = join(dir, 'config.yaml');
     writeFileSync(configFile, 'name: nightly\ndata:\n  file: data.csv\n  target: missed_payment_90d\n  positive: "yes"\n  id: application_id\n  columns:\n    applied_on: date\n    registered_on: date\n    owner_age_band: protected\nfeatures:\n  rate-encode: {}\n  tree-bins: {}\nlearners:\n  lr:\n    kind: logistic\n');
     const events: ScheduleEvent[] = [];
