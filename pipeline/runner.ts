@@ -165,6 +165,9 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
         }),
       ));
     }
+    // The fit contexts leave every worker's heap at its high-water mark, and V8 keeps it: ending
+    // those threads here, and evaluating on fresh ones, keeps the run's peak memory at the contexts'.
+    await contextPool.close();
     checkpoint();
     const byName = new Map(results.map((r) => [r.context, r]));
     const learnerNames = plan.learners.map((l) => l.name);
@@ -194,11 +197,13 @@ export async function runPipeline(config: ResolvedConfig, opts: RunOptions): Pro
     if (cachedEval) {
       metrics = JSON.parse(Buffer.from(cachedEval.get('metrics.json') ?? new Uint8Array()).toString('utf8')) as Metrics;
     } else {
-      metrics = await untilAborted(opts.signal, evaluateAll(contextPool, config, plan, learnerNames, oofPreds, holdPreds, blend, frame.target, stageReports));
+      const evalPool = new ContextPool(opts.workers);
+      pool = evalPool;
+      metrics = await untilAborted(opts.signal, evaluateAll(evalPool, config, plan, learnerNames, oofPreds, holdPreds, blend, frame.target, stageReports));
+      await evalPool.close();
       cache.put(evalKey, new Map([['metrics.json', Buffer.from(JSON.stringify(metrics))]]));
     }
     steps.push({ step: 'evaluate', key: evalKey, hit: cachedEval !== undefined, seconds: (performance.now() - tEval) / 1000 });
-    await contextPool.close();
     // Outside the evaluation cache entry: it is one pass over the rows, and entries written before it existed stay valid.
     metrics = { ...metrics, ...disparityOf(frame, config.evaluate.budget, plan, metrics, blend) };
 
