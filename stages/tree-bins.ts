@@ -5,6 +5,7 @@
  */
 import { numeric, type Column, type FrameView } from '../pipeline/frame.js';
 import { mEstimate } from './core/smoothing.js';
+import { edgeSampleRows } from './core/tree/bin.js';
 import { TreeParamError } from './core/tree/errors.js';
 import { mergeMonotone, type Direction } from './core/tree/monotone.js';
 import { fitIntervalTree, type IntervalBins } from './core/tree/univariate.js';
@@ -110,6 +111,15 @@ export const treeBins: Stage<TreeBinsConfig, TreeBinsState> = {
     for (let i = 0; i < rows.length; i++) totalEv += target[rows[i]];
     const prior = rows.length > 0 ? totalEv / rows.length : 0;
     const present = new Uint32Array(rows.length);
+    // Every column's edge sample comes from the rows a fit on the fewest present rows can pick.
+    let fewest = rows.length;
+    for (const name of inputs) {
+      const x = numericValues(view, name);
+      let k = 0;
+      for (let i = 0; i < rows.length; i++) if (x[rows[i]] === x[rows[i]]) k++;
+      fewest = Math.min(fewest, k);
+    }
+    const sampleFrom = edgeSampleRows(rows, fewest);
     const columns = inputs.map((name): TreeBinsColumn => {
       const x = numericValues(view, name);
       let nPresent = 0;
@@ -125,7 +135,7 @@ export const treeBins: Stage<TreeBinsConfig, TreeBinsState> = {
       }
       const fitRows = present.subarray(0, nPresent);
       const minLeafCount = config.min_leaf < 1 ? Math.max(1, Math.ceil(config.min_leaf * nPresent)) : config.min_leaf;
-      const fitted = fitIntervalTree(x, target, fitRows, { maxDepth: config.max_depth, minLeafCount, maxBins: config.max_bins });
+      const fitted = fitIntervalTree(x, target, fitRows, { maxDepth: config.max_depth, minLeafCount, maxBins: config.max_bins }, sampleFrom);
       const dir: Direction | null = config.monotone === 'none' ? null : config.monotone === 'auto' ? fitted.trend : config.monotone;
       const bins = dir === null ? fitted.bins : mergeMonotone(fitted.bins, dir);
       return {

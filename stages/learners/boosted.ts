@@ -12,7 +12,7 @@
  * 0.5: boosting then starts from the right calibration and the first trees model structure, not
  * the base rate. `base_score` overrides it (0.5 reproduces XGBoost ≤ 1.7's default).
  */
-import { allocCodes, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, type BinCodes } from '../core/tree/bin.js';
+import { allocCodes, edgeSampleRows, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, type BinCodes } from '../core/tree/bin.js';
 import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes, type GrowOptions } from '../core/tree/grow.js';
 import { STATS_NO_COUNT } from '../core/tree/histogram.js';
 import { KernelArena } from '../core/kernel/arena.js';
@@ -279,8 +279,9 @@ function fitBoostedIn({ features, names, rows, target, config, rng }: LearnerFit
   const edges: number[][] = [];
   const codes: BinCodes[] = [];
   const nBins = new Int32Array(p);
+  const sampled = edgeSampleRows(boostGlobal);
   for (let c = 0; c < p; c++) {
-    const m = fitNumericBins(features[c], boostGlobal, MAX_UINT8_BINS);
+    const m = fitNumericBins(features[c], boostGlobal, MAX_UINT8_BINS, sampled);
     edges.push(m.edges.slice());
     nBins[c] = m.edges.length + 1;
     const out = arena?.u8(n) ?? allocCodes(n, nBins[c]);

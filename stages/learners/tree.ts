@@ -5,7 +5,7 @@
  */
 import { intOption, minLeafCount, minLeafOption, numberOption, readOptions } from '../core/options.js';
 import { mEstimate } from '../core/smoothing.js';
-import { allocCodes, binThresholds, encodeNumeric, fitNumericBins, MAX_UINT16_BINS, MAX_UINT8_BINS, valueBinCount } from '../core/tree/bin.js';
+import { allocCodes, binThresholds, edgeSampleRows, encodeNumeric, fitNumericBins, MAX_UINT16_BINS, MAX_UINT8_BINS, valueBinCount } from '../core/tree/bin.js';
 import { compactTree, loadCompactTree, type CompactTree } from '../core/tree/compact.js';
 import { TreeParamError } from '../core/tree/errors.js';
 import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes } from '../core/tree/grow.js';
@@ -55,7 +55,8 @@ export const tree: Learner<TreeConfig, TreeModel> = {
     let events = 0;
     for (let i = 0; i < n; i++) events += target[rows[i]];
     const prior = n > 0 ? events / n : 0;
-    const mappers = features.map((x) => fitNumericBins(x, rows, config.max_bins));
+    const sampled = edgeSampleRows(rows);
+    const mappers = features.map((x) => fitNumericBins(x, rows, config.max_bins, sampled));
     const nBins = Int32Array.from(mappers, valueBinCount);
     const minLeaf = minLeafCount(config.min_leaf, n);
     const arena = KernelArena.open(treeArenaBytes(n, features.length, STATS, liveHistograms(config.max_depth, false)));

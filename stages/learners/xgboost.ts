@@ -14,7 +14,7 @@ import { existsSync, mkdtempSync, readFileSync, rmSync, writeFileSync } from 'no
 import { tmpdir } from 'node:os';
 import { join } from 'node:path';
 import { fileURLToPath } from 'node:url';
-import { encodeNumeric, fitNumericBins, MAX_UINT8_BINS, type NumericBinMapper } from '../core/tree/bin.js';
+import { edgeSampleRows, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, type NumericBinMapper } from '../core/tree/bin.js';
 import type { Learner, LearnerFitInput } from '../types.js';
 import type { HostRequest } from './xgboost-host.js';
 
@@ -100,7 +100,8 @@ export const xgboost: Learner<XgboostConfig, XgboostModel> = {
 
   fit({ features, names, rows, target, config, rng }: LearnerFitInput<XgboostConfig>): XgboostModel {
     if (features.length !== names.length) throw new XgboostInputError(`${features.length} feature columns but ${names.length} names`, names.length, features.length);
-    const mappers = features.map((x) => fitNumericBins(x, rows, MAX_UINT8_BINS));
+    const sampled = edgeSampleRows(rows);
+    const mappers = features.map((x) => fitNumericBins(x, rows, MAX_UINT8_BINS, sampled));
     const labels = Float32Array.from(rows, (r) => target[r]);
     const seed = config.seed ?? rng.int(2147483647);
     const params: [string, string][] = [

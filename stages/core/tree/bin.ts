@@ -87,14 +87,36 @@ function mix32(h: number): number {
   return h >>> 0;
 }
 
-/** The sorted non-missing values of the edge sample of `rows` (see SAMPLE_ROWS). */
-export function edgeSample(x: Float64Array, rows: Uint32Array): Float64Array {
-  const n = rows.length;
-  const all = n <= SAMPLE_ROWS;
-  const cut = all ? 0 : Math.floor((SAMPLE_ROWS / n) * 0x1_0000_0000);
-  let picked = new Float64Array(all ? n : SAMPLE_ROWS + (SAMPLE_ROWS >>> 3));
+/** Hash cut for a fit of n rows: a row is in the edge sample when mix32(row) < the cut. */
+function sampleCut(n: number): number {
+  return n <= SAMPLE_ROWS ? 0x1_0000_0000 : Math.floor((SAMPLE_ROWS / n) * 0x1_0000_0000);
+}
+
+/**
+ * The rows of `rows` that the edge sample of a fit on `n` of them (default: all) can pick. A fit
+ * on any n' >= n of these rows samples a subset of them, so callers binning many columns over the
+ * same rows hash each row once here instead of once per column.
+ */
+export function edgeSampleRows(rows: Uint32Array, n: number = rows.length): Uint32Array {
+  const cut = sampleCut(n);
+  if (cut === 0x1_0000_0000) return rows;
   let k = 0;
-  for (let i = 0; i < n; i++) {
+  const out = new Uint32Array(rows.length);
+  for (let i = 0; i < rows.length; i++) if (mix32(rows[i]) < cut) out[k++] = rows[i];
+  return out.slice(0, k);
+}
+
+/**
+ * The sorted non-missing values of the edge sample of a fit on `n` rows (see SAMPLE_ROWS), read
+ * from `rows`, which must hold every row that sample picks: the fit rows themselves (n defaults
+ * to their count), or edgeSampleRows of a superset with at most n rows' cut.
+ */
+export function edgeSample(x: Float64Array, rows: Uint32Array, n: number = rows.length): Float64Array {
+  const cut = sampleCut(n);
+  const all = cut === 0x1_0000_0000;
+  let picked = new Float64Array(Math.min(rows.length, SAMPLE_ROWS + (SAMPLE_ROWS >>> 3)));
+  let k = 0;
+  for (let i = 0; i < rows.length; i++) {
     const r = rows[i];
     if (!all && mix32(r) >= cut) continue;
     const v = x[r];
@@ -110,14 +132,15 @@ export function edgeSample(x: Float64Array, rows: Uint32Array): Float64Array {
 }
 
 /**
- * Quantile bin edges from the fit rows only (see `quantileEdges`), taken from the edge sample:
+ * Quantile bin edges from the fit rows only (see `quantileEdges`), taken from the edge sample
+ * (`sampled`: edgeSampleRows(rows), passed in by callers binning many columns over these rows):
  * when the sample holds every distinct value and there are at most `maxBins` of them (always so
  * up to SAMPLE_ROWS fit rows), a tree on the codes can place every threshold a tree on the raw
  * values could.
  */
-export function fitNumericBins(values: Float64Array, rows: Uint32Array, maxBins: number): NumericBinMapper {
+export function fitNumericBins(values: Float64Array, rows: Uint32Array, maxBins: number, sampled: Uint32Array = edgeSampleRows(rows)): NumericBinMapper {
   checkMaxBins(maxBins);
-  return { type: 'numeric', edges: quantileEdges(edgeSample(values, rows), maxBins) };
+  return { type: 'numeric', edges: quantileEdges(edgeSample(values, sampled, rows.length), maxBins) };
 }
 
 /**

@@ -13,7 +13,7 @@
  */
 import type { Rng } from '../../types.js';
 import { drawStreamSeed, streamRng } from '../stream-rng.js';
-import { binThresholds, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, valueBinCount } from './bin.js';
+import { binThresholds, edgeSampleRows, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, valueBinCount } from './bin.js';
 import { TreeParamError } from './errors.js';
 import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes } from './grow.js';
 import { STATS } from './histogram.js';
@@ -30,7 +30,8 @@ export interface BinnedMatrix {
 
 /** With an arena, the codes live in the histogram kernel's memory while it has room (kernel/arena.ts). */
 export function binMatrix(features: readonly Float64Array[], rows: Uint32Array, arena: KernelArena | null = null): BinnedMatrix {
-  const mappers = features.map((x) => fitNumericBins(x, rows, MAX_UINT8_BINS));
+  const sampled = edgeSampleRows(rows);
+  const mappers = features.map((x) => fitNumericBins(x, rows, MAX_UINT8_BINS, sampled));
   const codes = features.map((x, c) => {
     const out = arena?.u8(rows.length) ?? new Uint8Array(rows.length);
     encodeNumeric(mappers[c], x, rows, out);

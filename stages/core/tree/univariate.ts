@@ -46,11 +46,15 @@ function giniMass(e: number, n: number): number {
   return n > 0 ? (2 * e * (n - e)) / n : 0;
 }
 
-/** Fits a Gini tree on x; rows with a missing x must already be left out of `rows`. */
-export function fitIntervalTree(x: Float64Array, y: Uint8Array, rows: Uint32Array, p: UnivariateTreeParams): IntervalTree {
+/**
+ * Fits a Gini tree on x; rows with a missing x must already be left out of `rows`. `sampleFrom`
+ * holds every row the edge sample of these rows can pick (bin.edgeSampleRows of a superset): a
+ * caller fitting many columns over one row set hashes its rows once, not once per column.
+ */
+export function fitIntervalTree(x: Float64Array, y: Uint8Array, rows: Uint32Array, p: UnivariateTreeParams, sampleFrom: Uint32Array = rows): IntervalTree {
   const n = rows.length;
   if (n === 0) return { bins: { thresholds: [], n: [0], events: [0] }, trend: null };
-  const edges = Float64Array.from(quantileEdges(edgeSample(x, rows), p.maxBins));
+  const edges = Float64Array.from(quantileEdges(edgeSample(x, sampleFrom, n), p.maxBins));
   const nb = edges.length + 1;
   const binN = new Float64Array(nb);
   const binE = new Float64Array(nb);
