@@ -54,8 +54,16 @@ stack: {nonnegative: true}
 evaluate: {budget: 0.1}
 `;
 
+/**
+ * The holdout: the peer's own holdout rows when the CSV carries them as HOLDOUT_COLUMN (so both
+ * sides are scored on the same rows), otherwise a seeded 20% of foldstack's own.
+ */
+function splitYaml(sharedHoldout: boolean): string {
+  return sharedHoldout ? `split: {folds: 5, holdout: {column: ${HOLDOUT_COLUMN}, from: "${HOLDOUT_FROM}"}}` : 'split: {folds: 5, holdout: {fraction: 0.2}}';
+}
+
 /** The same pipeline as the peer: encodings, per-column trees, z-scores, summaries, dates; LR, CART, forest, boosted trees; stack. */
-function demoConfig(csv: string): string {
+function demoConfig(csv: string, sharedHoldout: boolean): string {
   return `name: bench
 seed: ${SEED}
 data:
@@ -63,10 +71,10 @@ data:
   target: missed_payment_90d
   positive: "yes"
   id: application_id
-  columns: {applied_on: date, registered_on: date, owner_age_band: protected}
-split: {folds: 5, holdout: {fraction: 0.2}}
+  columns: {applied_on: date, registered_on: date, owner_age_band: protected${sharedHoldout ? `, ${HOLDOUT_COLUMN}: date` : ''}}
+${splitYaml(sharedHoldout)}
 features:
-  dates: {pairs: [[registered_on, applied_on]]}
+  dates: {columns: [applied_on, registered_on], pairs: [[registered_on, applied_on]]}
   rate-encode: {smoothing: 20}
   tree-bins: {max_depth: 3, min_leaf: 0.05, smoothing: 20}
   leaf-z: {}
@@ -75,19 +83,49 @@ ${LEARNERS}`;
 }
 
 /** The same pipeline on an all-numeric matrix: per-column trees, z-scores, summaries; the same learners and stack. */
-function matrixConfig(csv: string): string {
+function matrixConfig(csv: string, sharedHoldout: boolean): string {
   return `name: bench-matrix
 seed: ${SEED}
 data:
   file: ${csv}
   target: y
-  positive: "1"
-split: {folds: 5, holdout: {fraction: 0.2}}
+  positive: "1"${sharedHoldout ? `\n  columns: {${HOLDOUT_COLUMN}: date}` : ''}
+${splitYaml(sharedHoldout)}
 features:
   tree-bins: {max_depth: 3, min_leaf: 0.05, smoothing: 20}
   leaf-z: {}
   summaries: {}
 ${LEARNERS}`;
+}
+
+/** Marks the peer's holdout rows in the bench's copy of a CSV: a date on or after HOLDOUT_FROM. */
+const HOLDOUT_COLUMN = 'peer_holdout';
+const HOLDOUT_FROM = '2001-01-01';
+
+/**
+ * A copy of `csv` with HOLDOUT_COLUMN set to HOLDOUT_FROM on the rows the peer holds out (its
+ * own stratified train_test_split with the bench's seed; the peer drops the column) and a year
+ * earlier elsewhere. Both sides are then scored on the same holdout rows.
+ */
+function withPeerHoldout(csv: string, target: string, positive: string): string {
+  const py = [
+    'import sys, numpy as np, pandas as pd',
+    'from sklearn.model_selection import train_test_split',
+    'd = pd.read_csv(sys.argv[1], usecols=[sys.argv[2]], keep_default_na=False, na_values=[""], low_memory=False)[sys.argv[2]]',
+    'y = (d.astype(str) == sys.argv[3]).to_numpy().astype(np.int8)',
+    'assert d.notna().all(), "the peer drops rows without a target; the bench data has none"',
+    '_, hold = train_test_split(np.arange(len(y)), test_size=0.2, stratify=y, random_state=int(sys.argv[4]))',
+    'print(" ".join(map(str, np.sort(hold))))',
+  ].join('\n');
+  const r = spawnSync(python, ['-c', py, csv, target, positive, String(SEED)], { encoding: 'utf8', maxBuffer: 1 << 26 });
+  if (r.status !== 0) throw new Error(`peer holdout rows: ${r.stderr.trim().split('\n').pop()}`);
+  const held = new Set(r.stdout.trim().split(' ').map(Number));
+  const lines = readFileSync(csv, 'utf8').split('\n');
+  const rows = lines.filter((l, i) => i === 0 || l.length > 0);
+  const outLines = rows.map((l, i) => (i === 0 ? `${l},${HOLDOUT_COLUMN}` : `${l},${held.has(i - 1) ? HOLDOUT_FROM : '2000-01-01'}`));
+  const copy = csv.replace(/\.csv$/, '-peer-holdout.csv');
+  writeFileSync(copy, outLines.join('\n') + '\n');
+  return copy;
 }
 
 interface PipelineCase {
@@ -117,7 +155,7 @@ function comparePipelines(c: PipelineCase, peer: boolean): string {
     const resFile = join(out, `peer-${c.name}.json`);
     const p = timed(python, [peerScript, '--data', c.csv, ...c.peerArgs, '--seed', String(SEED), '--threads', '2', '--out', resFile], root).m;
     const res = JSON.parse(readFileSync(resFile, 'utf8')) as { metrics: { stack: { roc_auc: number } } };
-    line += ` | peer ${p.seconds.toFixed(1)} s, ${p.rssMb.toFixed(0)} MB, stack AUC ${res.metrics.stack.roc_auc.toFixed(4)} | ratio time ${(ours.seconds / p.seconds).toFixed(3)}×, RSS ${(ours.rssMb / p.rssMb).toFixed(3)}×`;
+    line += ` | peer ${p.seconds.toFixed(1)} s, ${p.rssMb.toFixed(0)} MB, stack AUC ${res.metrics.stack.roc_auc.toFixed(4)} | ratio time ${(ours.seconds / p.seconds).toFixed(3)}×, RSS ${(ours.rssMb / p.rssMb).toFixed(3)}× | same holdout rows`;
   }
   return line;
 }
@@ -136,15 +174,18 @@ async function main(): Promise<void> {
   for (const rows of rowsList) {
     const csv = join(out, `demo-${rows}.csv`);
     if (!existsSync(csv)) await generateDemo({ rows, seed: SEED, out: csv });
-    const peerArgs = ['--target', 'missed_payment_90d', '--positive', 'yes', '--id', 'application_id', '--date-cols', 'applied_on,registered_on', '--drop-cols', 'owner_age_band'];
-    report(comparePipelines({ name: String(rows), label: `${rows} rows (demo data)`, csv, config: demoConfig(csv), peerArgs }, peer));
+    const shared = peer ? withPeerHoldout(csv, 'missed_payment_90d', 'yes') : csv;
+    const peerArgs = ['--target', 'missed_payment_90d', '--positive', 'yes', '--id', 'application_id', '--date-cols', 'applied_on,registered_on', '--drop-cols', peer ? `owner_age_band,${HOLDOUT_COLUMN}` : 'owner_age_band'];
+    report(comparePipelines({ name: String(rows), label: `${rows} rows (demo data)`, csv: shared, config: demoConfig(shared, peer), peerArgs }, peer));
   }
   if (!process.argv.includes('--no-matrix')) {
     // the 200k × 30 numeric matrix of the component benchmarks, through the whole pipeline on both sides
     const csv = join(out, `matrix-${MATRIX_ROWS}x${MATRIX_COLS}.csv`);
     if (!existsSync(csv)) writeBenchMatrix(csv, MATRIX_ROWS, MATRIX_COLS);
     const label = `${MATRIX_ROWS} × ${MATRIX_COLS} numeric matrix`;
-    report(comparePipelines({ name: `matrix-${MATRIX_ROWS}x${MATRIX_COLS}`, label, csv, config: matrixConfig(csv), peerArgs: ['--target', 'y', '--positive', '1'] }, peer));
+    const shared = peer ? withPeerHoldout(csv, 'y', '1') : csv;
+    const peerArgs = ['--target', 'y', '--positive', '1', ...(peer ? ['--drop-cols', HOLDOUT_COLUMN] : [])];
+    report(comparePipelines({ name: `matrix-${MATRIX_ROWS}x${MATRIX_COLS}`, label, csv: shared, config: matrixConfig(shared, peer), peerArgs }, peer));
   }
   if (!process.argv.includes('--no-components')) {
     for (const line of runComponents(out, peer ? python : undefined, MATRIX_ROWS, MATRIX_COLS)) report(line);
