@@ -17,7 +17,7 @@
  * the result (`converged: false`, `status`, `message`), never thrown: a caller fitting many folds
  * wants the number and the warning, not an aborted run. Bad inputs are thrown as LogisticInputError.
  */
-import { KernelArena } from './kernel/arena.js';
+import { withKernelArena, type KernelArena } from './kernel/arena.js';
 import { gramBlock } from './kernel/gram.js';
 
 export interface LogisticFitOptions {
@@ -98,12 +98,7 @@ export function fitLogistic(
 ): LogisticFit {
   const d = X.length + 1;
   // the Hessian's row blocks and the Hessian itself, for the Gram kernel (kernel/gram.ts)
-  const arena = KernelArena.open(8 * (2 * d * ROW_BLOCK + d * d) + 64);
-  try {
-    return fitLogisticIn(X, rows, y, opts, arena);
-  } finally {
-    arena?.close();
-  }
+  return withKernelArena(8 * (2 * d * ROW_BLOCK + d * d) + 64, (arena) => fitLogisticIn(X, rows, y, opts, arena));
 }
 
 function fitLogisticIn(

@@ -15,7 +15,7 @@
 import { allocCodes, edgeSampleRows, encodeNumeric, fitNumericBins, MAX_UINT8_BINS, type BinCodes } from '../core/tree/bin.js';
 import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes, type GrowOptions } from '../core/tree/grow.js';
 import { STATS_NO_COUNT } from '../core/tree/histogram.js';
-import { KernelArena } from '../core/kernel/arena.js';
+import { withKernelArena, type KernelArena } from '../core/kernel/arena.js';
 import { addLeafValuesBinned, addTreeValuesRaw, treeFromJson, treeToJson, type FlatTreeJson } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput, Rng } from '../types.js';
 
@@ -253,12 +253,8 @@ function gradientsAndLoss(margin: Float64Array, y: Uint8Array, rows: Uint32Array
 }
 
 function fitBoosted(input: LearnerFitInput<BoostedConfig>): BoostedModel {
-  const arena = KernelArena.open(treeArenaBytes(input.rows.length, input.features.length, STATS_NO_COUNT, liveHistograms(input.config.max_depth, false)));
-  try {
-    return fitBoostedIn(input, arena);
-  } finally {
-    arena?.close();
-  }
+  const bytes = treeArenaBytes(input.rows.length, input.features.length, STATS_NO_COUNT, liveHistograms(input.config.max_depth, false));
+  return withKernelArena(bytes, (arena) => fitBoostedIn(input, arena));
 }
 
 /** Codes, gradients, hessians and tree buffers come from `arena` while it has room (see kernel/arena.ts). */

@@ -7,8 +7,8 @@
 import { booleanOption, intOption, minLeafCount, minLeafOption, numberOption, OptionError, readOptions } from '../core/options.js';
 import { compactTree, loadCompactTree, type CompactTree } from '../core/tree/compact.js';
 import { TreeParamError } from '../core/tree/errors.js';
-import { binMatrix, featuresPerSplitFor, forestArenaBytes, growForest, type ForestFit, type ForestParams } from '../core/tree/forest.js';
-import { KernelArena } from '../core/kernel/arena.js';
+import { binMatrix, featuresPerSplitFor, forestArenaBytes, growForest, type ForestParams } from '../core/tree/forest.js';
+import { withKernelArena } from '../core/kernel/arena.js';
 import { addTreeValuesRaw } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput, StageReport } from '../types.js';
 
@@ -80,13 +80,9 @@ export const forest: Learner<ForestConfig, ForestModel> = {
       // permutation importance only shows in the report; skipping it leaves the trees unchanged
       permutationRows: report === false ? 0 : config.permutation_rows,
     };
-    const arena = KernelArena.open(forestArenaBytes(rows.length, features.length, params));
-    let fitted: ForestFit;
-    try {
-      fitted = growForest(binMatrix(features, rows, arena), Uint8Array.from(rows, (r) => target[r]), params, rng, arena);
-    } finally {
-      arena?.close();
-    }
+    const fitted = withKernelArena(forestArenaBytes(rows.length, features.length, params), (arena) =>
+      growForest(binMatrix(features, rows, arena), Uint8Array.from(rows, (r) => target[r]), params, rng, arena),
+    );
     return {
       names: [...names],
       trees: fitted.trees.map((t) => compactTree(t)),

@@ -10,8 +10,8 @@ import { compactTree, loadCompactTree, type CompactTree } from '../core/tree/com
 import { TreeParamError } from '../core/tree/errors.js';
 import { growTree, GrowWorkspace, liveHistograms, treeArenaBytes } from '../core/tree/grow.js';
 import { STATS } from '../core/tree/histogram.js';
-import { KernelArena } from '../core/kernel/arena.js';
-import { predictRaw, type FlatTree } from '../core/tree/predict.js';
+import { withKernelArena } from '../core/kernel/arena.js';
+import { predictRaw } from '../core/tree/predict.js';
 import type { Learner, LearnerFitInput } from '../types.js';
 
 export interface TreeConfig {
@@ -59,9 +59,8 @@ export const tree: Learner<TreeConfig, TreeModel> = {
     const mappers = features.map((x) => fitNumericBins(x, rows, config.max_bins, sampled));
     const nBins = Int32Array.from(mappers, valueBinCount);
     const minLeaf = minLeafCount(config.min_leaf, n);
-    const arena = KernelArena.open(treeArenaBytes(n, features.length, STATS, liveHistograms(config.max_depth, false)));
-    let grown: FlatTree;
-    try {
+    const bytes = treeArenaBytes(n, features.length, STATS, liveHistograms(config.max_depth, false));
+    const grown = withKernelArena(bytes, (arena) => {
       const codes = features.map((x, c) => {
         const out = (nBins[c] <= MAX_UINT8_BINS ? arena?.u8(n) : null) ?? allocCodes(n, nBins[c]);
         encodeNumeric(mappers[c], x, rows, out);
@@ -70,7 +69,7 @@ export const tree: Learner<TreeConfig, TreeModel> = {
       const grad = arena?.f64(n) ?? new Float64Array(n);
       for (let i = 0; i < n; i++) grad[i] = target[rows[i]];
       const hess = (arena?.f64(n) ?? new Float64Array(n)).fill(1);
-      grown = growTree(
+      return growTree(
         { codes, nBins, thresholds: mappers.map(binThresholds), grad, hess, rows: Uint32Array.from({ length: n }, (_, i) => i), workspace: new GrowWorkspace(arena, n) },
         {
           maxDepth: config.max_depth,
@@ -79,9 +78,7 @@ export const tree: Learner<TreeConfig, TreeModel> = {
           leafValue: 'ratio',
         },
       );
-    } finally {
-      arena?.close();
-    }
+    });
     const value = Array.from(grown.gradSum, (g, k) => mEstimate(g, grown.hessSum[k], prior, config.smoothing));
     return { names: [...names], prior, tree: compactTree(grown, value) };
   },

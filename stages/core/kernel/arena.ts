@@ -127,6 +127,19 @@ export class KernelArena {
 }
 
 /**
+ * fn with an arena of at least `bytes` (null when none can be had), closed when fn returns or
+ * throws: every fit that uses the kernels opens and closes its arena this way.
+ */
+export function withKernelArena<T>(bytes: number, fn: (arena: KernelArena | null) => T): T {
+  const arena = KernelArena.open(bytes);
+  try {
+    return fn(arena);
+  } finally {
+    arena?.close();
+  }
+}
+
+/**
  * Runs the kernel over rows order[start..end) for columns cols[0..nCols) when every array is a
  * view into the kernel's memory (and the codes are 8-bit); returns false, having done nothing,
  * otherwise. The caller has zeroed the columns' slots. `stats` is 2 or 3 values per slot and
